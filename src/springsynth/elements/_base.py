@@ -1,0 +1,180 @@
+"""The element protocol: what every kind of spring or flexure provides.
+
+A *kind* is one module in :mod:`springsynth.elements` that defines ``KIND``, an
+instance of a subclass of :class:`ElementKind`. The registry finds it by itself.
+
+Conventions for every kernel method
+-----------------------------------
+``p``     mapping of parameter name -> ndarray, shape (n,), physical units (mm, N, -).
+          Categorical parameters (``Param.choices``) arrive as float indices 0., 1., ...
+``mat``   :class:`~springsynth._materials.MaterialArrays`, fields of shape (n,).
+``u``     ndarray, shape (n, m): the element's own stroke, u >= 0 (the assembly has
+          already subtracted the gap or added the preload and clipped at 0).
+``u_max`` ndarray, shape (n,): the largest stroke the element sees in service.
+
+Returned forces are in N (positive resists the stroke), stresses in MPa, sizes in
+mm and masses in g. No Python loop over the population axis, no I/O.
+"""
+
+from __future__ import annotations
+
+import math
+from dataclasses import dataclass, field
+from typing import Mapping
+
+import numpy as np
+
+from .._materials import MaterialArrays
+
+__all__ = ["Param", "ElementKind", "Params", "second_moment_rect", "second_moment_round", "DENSITY_TO_G_PER_MM3"]
+
+Params = Mapping[str, np.ndarray]
+
+
+@dataclass(frozen=True)
+class Param:
+    """One dimension of an element kind.
+
+    Attributes
+    ----------
+    name : str
+        Name with its unit suffix, as written in design files (``length_mm``).
+    unit : str
+        ``mm``, ``N`` or ``-``.
+    lo, hi : float
+        Bounds accepted in a design and searched over.
+    log : bool
+        Search on a log scale (the range spans a decade or more).
+    integer : bool
+        Whole numbers only.
+    choices : tuple of str
+        Categorical parameter: the design file gives one of these strings; kernels
+        receive its index as a float.
+    thickness : bool
+        A section thickness or wire diameter: subject to ``limits.min_thickness_mm``.
+    doc : str
+        One line for the catalogue.
+    """
+
+    name: str
+    unit: str
+    lo: float
+    hi: float
+    log: bool = False
+    integer: bool = False
+    choices: tuple[str, ...] = ()
+    thickness: bool = False
+    doc: str = ""
+
+    def __post_init__(self):
+        if self.choices:
+            object.__setattr__(self, "lo", 0.0)
+            object.__setattr__(self, "hi", float(len(self.choices) - 1))
+        if not self.lo <= self.hi:
+            raise ValueError(f"{self.name}: lo > hi")
+
+
+@dataclass(frozen=True)
+class ElementKind:
+    """Base of every element kind; subclasses override the kernel methods.
+
+    Class attributes a kind sets
+    ----------------------------
+    name : str              the ``kind`` string in design files
+    title : str             one line for people
+    params : tuple[Param]   its dimensions, in a fixed order
+    forms : tuple[str]      material forms it is made from (``wire``, ``strip``, ``bulk``, ``elastomer``)
+    validity : str          the declared validity range, in words
+    sources : tuple[str]    published sources of the model
+    stroke_note : str       what the stroke ``u`` is for this kind
+    monotonic_stress : bool governing stress rises monotonically with u, so its peak over
+                            a stroke is reached at ``u_max`` (lets the search evaluate it once)
+    """
+
+    name: str = ""
+    title: str = ""
+    params: tuple[Param, ...] = ()
+    forms: tuple[str, ...] = ("strip",)
+    validity: str = ""
+    sources: tuple[str, ...] = ()
+    stroke_note: str = ""
+    monotonic_stress: bool = True
+    stress_note: str = ""
+    extra: dict = field(default_factory=dict, compare=False, repr=False)
+
+    # ---- kernels (override) ---------------------------------------------------------
+    def force(self, p: Params, mat: MaterialArrays, u: np.ndarray) -> np.ndarray:
+        """Force of one copy, N, shape (n, m), for strokes ``u`` >= 0 of shape (n, m)."""
+        raise NotImplementedError
+
+    def stress(self, p: Params, mat: MaterialArrays, u: np.ndarray) -> np.ndarray:
+        """Governing stress of one copy, MPa, shape (n, m) (compared with :meth:`allowable`)."""
+        raise NotImplementedError
+
+    def allowable(self, p: Params, mat: MaterialArrays) -> np.ndarray:
+        """Allowable value of the governing stress, MPa, shape (n,)."""
+        return mat.yield_
+
+    def validity_margins(self, p: Params, mat: MaterialArrays, u_max: np.ndarray) -> dict[str, np.ndarray]:
+        """Normalised margins, each shape (n,), <= 0 inside the model's valid range.
+
+        Write each as ``demand / bound - 1`` (or ``bound / demand - 1`` for a lower
+        bound) so that 0.1 means "10 % beyond the bound". Names are short snake_case
+        phrases that a designer can read (``spring_index``, ``solid_height``).
+        """
+        return {}
+
+    def box(self, p: Params, u_max: np.ndarray) -> tuple[np.ndarray, np.ndarray, np.ndarray]:
+        """Bounding box of one copy over its stroke, mm, each shape (n,).
+
+        Returns ``(along, across_1, across_2)``: the extent along the stroke axis
+        (including the space swept up to ``u_max``) and the two extents across it.
+        """
+        raise NotImplementedError
+
+    def mass(self, p: Params, mat: MaterialArrays) -> np.ndarray:
+        """Mass of one copy, g, shape (n,)."""
+        raise NotImplementedError
+
+    # ---- helpers --------------------------------------------------------------------
+    def peak_stress_ratio(self, p: Params, mat: MaterialArrays, u: np.ndarray) -> np.ndarray:
+        """Largest stress / allowable over the strokes ``u`` (n, m), shape (n,)."""
+        s = self.stress(p, mat, u)
+        return np.max(s, axis=1) / self.allowable(p, mat)
+
+    def param(self, name: str) -> Param:
+        for q in self.params:
+            if q.name == name:
+                return q
+        raise KeyError(name)
+
+    @property
+    def param_names(self) -> tuple[str, ...]:
+        return tuple(q.name for q in self.params)
+
+    def summary(self, values: Mapping[str, float]) -> str:
+        """Short readable description of one element, e.g. ``blade_guided 24x6x0.25``."""
+        parts = []
+        for q in self.params:
+            v = values[q.name]
+            if q.choices:
+                parts.append(q.choices[int(round(v))])
+            elif q.integer:
+                parts.append(f"{int(round(v))}")
+            else:
+                parts.append(f"{v:.3g}")
+        return f"{self.name} " + "x".join(parts)
+
+
+def second_moment_rect(b: np.ndarray, t: np.ndarray) -> np.ndarray:
+    """``I = b t^3 / 12``, mm^4."""
+    return b * t**3 / 12.0
+
+
+def second_moment_round(d: np.ndarray) -> np.ndarray:
+    """``I = pi d^4 / 64``, mm^4."""
+    return math.pi * d**4 / 64.0
+
+
+#: kg/m^3 * mm^3 -> g
+DENSITY_TO_G_PER_MM3 = 1e-6
