@@ -1,0 +1,347 @@
+"""Mechanisms: elements acting in parallel on one stroke, evaluated a population at a time.
+
+Total force ``F(x) = sum_i count_i * f_i(x - offset_i)`` with ``f_i(u) = 0`` for
+``u <= 0``: a positive offset is a gap (the element engages once x > offset), a
+negative one a preload (the element is already compressed by ``-offset`` at x = 0).
+
+Packing model (documented for ``size_mm3``)
+-------------------------------------------
+Every element's box is ``(along, c1, c2)``: along the stroke and two extents across
+it. All elements share the stroke axis, so the mechanism's length is the largest
+``along``. Copies and elements stand side by side across the stroke, each turned so
+that its thinner cross extent lies in the stacking direction: the stack is
+``sum(count * min(c1, c2))`` wide and ``max(max(c1, c2))`` high. The mechanism may be
+turned a quarter turn about the stroke axis to fit the envelope. ``size_mm3`` is
+length x stack width x stack height.
+"""
+
+from __future__ import annotations
+
+import math
+from dataclasses import dataclass, field
+from typing import Mapping, Sequence
+
+import numpy as np
+
+from ._errors import InputError
+from ._materials import Material, MaterialArrays
+from .elements import ElementKind, get_kind, registry
+
+__all__ = ["Element", "Design", "Slots", "Response", "Envelope", "evaluate_population", "evaluate_design", "envelope_margins"]
+
+#: stroke points used for the peak stress of kinds whose stress is not monotonic
+_STRESS_GRID = 33
+
+
+@dataclass(frozen=True)
+class Envelope:
+    """Bounding box the whole mechanism must fit in, mm."""
+
+    length_mm: float
+    width_mm: float
+    height_mm: float
+
+    def __post_init__(self):
+        for k in ("length_mm", "width_mm", "height_mm"):
+            v = getattr(self, k)
+            if not (isinstance(v, (int, float)) and not isinstance(v, bool) and math.isfinite(v) and v > 0):
+                raise InputError(f"{k} must be a positive number of mm, got {v!r}", where="[envelope]")
+
+
+@dataclass(frozen=True)
+class Element:
+    """One element of a design: a kind, a material, ``count`` identical copies in parallel.
+
+    ``params`` maps each of the kind's parameter names to a number (or, for a
+    categorical parameter, one of its choices).
+    """
+
+    kind: str
+    material: str
+    count: int = 1
+    offset_mm: float = 0.0
+    params: Mapping[str, float | str] = field(default_factory=dict)
+
+    def values(self) -> dict[str, float]:
+        """Parameters as floats (categorical choices as their index)."""
+        k = get_kind(self.kind)
+        out = {}
+        for q in k.params:
+            v = self.params[q.name]
+            out[q.name] = float(q.choices.index(v)) if q.choices else float(v)
+        return out
+
+    def summary(self) -> str:
+        base = get_kind(self.kind).summary(self.values())
+        s = f"{self.count}x {base} [{self.material}]"
+        if self.offset_mm > 0:
+            s += f" gap {self.offset_mm:.3g}"
+        elif self.offset_mm < 0:
+            s += f" preload {-self.offset_mm:.3g}"
+        return s
+
+
+@dataclass(frozen=True)
+class Design:
+    """A mechanism: elements in parallel, with the materials they name resolved."""
+
+    elements: tuple[Element, ...]
+    materials: Mapping[str, Material]
+    name: str = "design"
+
+    def __post_init__(self):
+        object.__setattr__(self, "elements", tuple(self.elements))
+        if not self.elements:
+            raise InputError("a design needs at least one [[element]]", where=self.name)
+        for i, e in enumerate(self.elements):
+            if e.material not in self.materials:
+                raise InputError(f"material {e.material!r} is not resolved", where=f"{self.name} element {i + 1}")
+
+    def topology(self) -> str:
+        return " + ".join(e.summary() for e in self.elements)
+
+
+@dataclass(frozen=True)
+class Slots:
+    """A population of mechanisms as arrays: n designs x S parallel slots.
+
+    Attributes
+    ----------
+    kind : ndarray of int, shape (n, S)
+        Index into ``kinds``; -1 marks an empty slot.
+    material : ndarray of int, shape (n, S)
+        Index into ``materials``.
+    count : ndarray, shape (n, S)
+    offset_mm : ndarray, shape (n, S)
+    params : ndarray, shape (n, S, P)
+        Parameters in each kind's own order (``kind.params``), physical units,
+        categorical ones as indices; unused trailing columns are ignored.
+    kinds : tuple of ElementKind
+    materials : tuple of Material
+    """
+
+    kind: np.ndarray
+    material: np.ndarray
+    count: np.ndarray
+    offset_mm: np.ndarray
+    params: np.ndarray
+    kinds: tuple[ElementKind, ...]
+    materials: tuple[Material, ...]
+
+    @property
+    def n(self) -> int:
+        return self.kind.shape[0]
+
+    @property
+    def n_slots(self) -> int:
+        return self.kind.shape[1]
+
+    @classmethod
+    def from_designs(cls, designs: Sequence[Design], n_slots: int | None = None,
+                     kinds: Sequence[ElementKind] | None = None,
+                     materials: Sequence[Material] | None = None) -> "Slots":
+        """Pack designs into arrays (one row per design, empty slots padded)."""
+        kinds = tuple(kinds) if kinds is not None else tuple(registry().values())
+        mats: list[Material] = list(materials) if materials is not None else []
+        for d in designs:
+            for e in d.elements:
+                m = d.materials[e.material]
+                if m not in mats:
+                    mats.append(m)
+        S = n_slots or max(len(d.elements) for d in designs)
+        P = max(len(k.params) for k in kinds)
+        n = len(designs)
+        kind = np.full((n, S), -1, dtype=np.intp)
+        mat = np.zeros((n, S), dtype=np.intp)
+        count = np.zeros((n, S))
+        off = np.zeros((n, S))
+        par = np.zeros((n, S, P))
+        names = [k.name for k in kinds]
+        for i, d in enumerate(designs):
+            if len(d.elements) > S:
+                raise InputError(f"has {len(d.elements)} elements, more than the {S} slots allowed", where=d.name)
+            for j, e in enumerate(d.elements):
+                kind[i, j] = names.index(e.kind)
+                mat[i, j] = mats.index(d.materials[e.material])
+                count[i, j] = e.count
+                off[i, j] = e.offset_mm
+                vals = e.values()
+                par[i, j, : len(vals)] = [vals[q.name] for q in kinds[kind[i, j]].params]
+        return cls(kind, mat, count, off, par, kinds, tuple(mats))
+
+    def design(self, i: int, name: str = "design") -> Design:
+        """Row ``i`` as a :class:`Design` (the inverse of :meth:`from_designs`)."""
+        elems = []
+        used: dict[str, Material] = {}
+        for j in range(self.n_slots):
+            k = int(self.kind[i, j])
+            if k < 0:
+                continue
+            kind = self.kinds[k]
+            m = self.materials[int(self.material[i, j])]
+            used[m.id] = m
+            params: dict[str, float | str] = {}
+            for c, q in enumerate(kind.params):
+                v = float(self.params[i, j, c])
+                params[q.name] = q.choices[int(round(v))] if q.choices else (int(round(v)) if q.integer else v)
+            elems.append(Element(kind.name, m.id, int(round(self.count[i, j])), float(self.offset_mm[i, j]), params))
+        return Design(tuple(elems), used, name=name)
+
+
+@dataclass(frozen=True)
+class Response:
+    """What a population does over the stroke points ``x`` (shapes: n designs, S slots, m points).
+
+    Attributes
+    ----------
+    x_mm : ndarray, shape (m,)
+    force_N : ndarray, shape (n, m)
+        Total force.
+    element_force_N : ndarray, shape (n, S, m) or None
+        Each slot's contribution (all copies), when asked for.
+    stress_ratio : ndarray, shape (n,)
+        Peak over elements and stroke [0, x_max] of stress / allowable.
+    stress_ratio_curve : ndarray, shape (n, m) or None
+        Largest element stress ratio at each x, when asked for.
+    box_mm : ndarray, shape (n, 3)
+        Packed mechanism: length along the stroke, stack width, stack height.
+    size_mm3, mass_g : ndarray, shape (n,)
+    validity : dict of str -> ndarray, shape (n,)
+        Worst normalised margin over elements for each named validity rule (<= 0 inside).
+    min_thickness_mm : ndarray, shape (n,)
+        Smallest section thickness or wire diameter used (inf when none).
+    finite : ndarray of bool, shape (n,)
+        False where any model returned NaN or inf (such a design is never feasible).
+    """
+
+    x_mm: np.ndarray
+    force_N: np.ndarray
+    element_force_N: np.ndarray | None
+    stress_ratio: np.ndarray
+    stress_ratio_curve: np.ndarray | None
+    box_mm: np.ndarray
+    size_mm3: np.ndarray
+    mass_g: np.ndarray
+    validity: dict[str, np.ndarray]
+    min_thickness_mm: np.ndarray
+    finite: np.ndarray
+
+    @property
+    def validity_worst(self) -> np.ndarray:
+        """Worst margin over all rules, shape (n,) (-inf when no rule applies)."""
+        if not self.validity:
+            return np.full(self.force_N.shape[0], -np.inf)
+        return np.max(np.stack(list(self.validity.values())), axis=0)
+
+
+def evaluate_population(slots: Slots, x_mm: np.ndarray, *, x_max_mm: float | None = None,
+                        detail: bool = False) -> Response:
+    """Evaluate every mechanism of ``slots`` at the stroke points ``x_mm``.
+
+    Parameters
+    ----------
+    slots : Slots
+        n mechanisms of S slots.
+    x_mm : ndarray, shape (m,)
+        Stroke points, mm (x >= 0).
+    x_max_mm : float, optional
+        Largest stroke in service (default ``max(x_mm)``): sets each element's
+        largest stroke for stress, validity and swept size.
+    detail : bool
+        Also return each slot's force and the stress-ratio curve.
+
+    Notes
+    -----
+    The loop runs over slots and kinds (a handful), never over designs: each kind
+    evaluates all rows that use it in one vectorised call.
+    """
+    x = np.asarray(x_mm, dtype=float)
+    x_max = float(np.max(x)) if x_max_mm is None else float(x_max_mm)
+    n, S, m = slots.n, slots.n_slots, x.size
+    force = np.zeros((n, m))
+    elem_force = np.zeros((n, S, m)) if detail else None
+    sr = np.zeros(n)
+    sr_curve = np.zeros((n, m)) if detail else None
+    along = np.zeros(n)
+    stack_w = np.zeros(n)
+    stack_h = np.zeros(n)
+    mass = np.zeros(n)
+    tmin = np.full(n, np.inf)
+    finite = np.ones(n, dtype=bool)
+    validity: dict[str, np.ndarray] = {}
+
+    mats_all = MaterialArrays.take(slots.materials, np.arange(len(slots.materials)))
+    for j in range(S):
+        kcol = slots.kind[:, j]
+        for ki in np.unique(kcol):
+            if ki < 0:
+                continue
+            kind = slots.kinds[ki]
+            rows = np.flatnonzero(kcol == ki)
+            p = {q.name: slots.params[rows, j, c] for c, q in enumerate(kind.params)}
+            mat = mats_all.subset(slots.material[rows, j])
+            off = slots.offset_mm[rows, j]
+            cnt = slots.count[rows, j]
+            u_max = np.maximum(x_max - off, 0.0)
+
+            with np.errstate(all="ignore"):
+                u = x[None, :] - off[:, None]
+                f = kind.force(p, mat, np.maximum(u, 0.0))
+                f = np.where(u > 0.0, f, 0.0) * cnt[:, None]
+                if kind.monotonic_stress:
+                    peak = kind.peak_stress_ratio(p, mat, u_max[:, None])
+                else:
+                    grid = u_max[:, None] * np.linspace(0.0, 1.0, _STRESS_GRID)[None, :]
+                    peak = kind.peak_stress_ratio(p, mat, grid)
+                margins = kind.validity_margins(p, mat, u_max)
+                a, c1, c2 = (np.broadcast_to(v, rows.shape) for v in kind.box(p, u_max))
+                ms = kind.mass(p, mat) * cnt
+
+            ok = np.all(np.isfinite(f), axis=1) & np.isfinite(peak) & np.isfinite(a) & np.isfinite(c1) \
+                & np.isfinite(c2) & np.isfinite(ms)
+            for name, g in margins.items():
+                ok &= np.isfinite(g)
+                cur = validity.setdefault(name, np.full(n, -np.inf))
+                cur[rows] = np.maximum(cur[rows], np.where(np.isfinite(g), g, np.inf))
+            finite[rows] &= ok
+            force[rows] += np.where(np.isfinite(f), f, 0.0)
+            if detail:
+                elem_force[rows, j] = f
+                with np.errstate(all="ignore"):
+                    s = kind.stress(p, mat, np.maximum(u, 0.0)) / kind.allowable(p, mat)[:, None]
+                sr_curve[rows] = np.maximum(sr_curve[rows], np.where(u > 0.0, s, 0.0))
+            sr[rows] = np.maximum(sr[rows], peak)
+            along[rows] = np.maximum(along[rows], a)
+            lo, hi = np.minimum(c1, c2), np.maximum(c1, c2)
+            stack_w[rows] += cnt * lo
+            stack_h[rows] = np.maximum(stack_h[rows], hi)
+            mass[rows] += ms
+            for c, q in enumerate(kind.params):
+                if q.thickness:
+                    tmin[rows] = np.minimum(tmin[rows], p[q.name])
+
+    box = np.stack([along, stack_w, stack_h], axis=1)
+    return Response(
+        x_mm=x, force_N=force, element_force_N=elem_force, stress_ratio=np.where(finite, sr, np.inf),
+        stress_ratio_curve=sr_curve, box_mm=box, size_mm3=along * stack_w * stack_h, mass_g=mass,
+        validity=validity, min_thickness_mm=tmin, finite=finite,
+    )
+
+
+def envelope_margins(box_mm: np.ndarray, env: Envelope) -> tuple[np.ndarray, np.ndarray]:
+    """Normalised envelope margins (<= 0 fits), each shape (n,).
+
+    Returns ``(length, cross)``: length along the stroke against ``length_mm``; the
+    cross-section against width x height in the better of the two quarter-turn
+    orientations.
+    """
+    g_len = box_mm[:, 0] / env.length_mm - 1.0
+    w, h = box_mm[:, 1], box_mm[:, 2]
+    a = np.maximum(w / env.width_mm, h / env.height_mm)
+    b = np.maximum(w / env.height_mm, h / env.width_mm)
+    return g_len, np.minimum(a, b) - 1.0
+
+
+def evaluate_design(design: Design, x_mm: np.ndarray, *, x_max_mm: float | None = None) -> Response:
+    """Evaluate one design (n = 1) with per-element detail; same code path as the search."""
+    return evaluate_population(Slots.from_designs([design]), x_mm, x_max_mm=x_max_mm, detail=True)

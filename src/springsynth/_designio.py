@@ -1,0 +1,182 @@
+"""Reading and writing design files (TOML, DESIGN.md "Design TOML")."""
+
+from __future__ import annotations
+
+import math
+import tomllib
+from pathlib import Path
+from typing import Any, Mapping
+
+from ._assembly import Design, Element
+from ._errors import InputError
+from ._materials import Material, catalogue, material_from_mapping
+from ._suggest import unknown_key_message
+from .elements import get_kind, registry
+
+__all__ = ["load_design", "design_from_mapping", "design_to_toml", "resolve_materials", "read_toml"]
+
+_TOP_KEYS = {"name", "note", "element", "materials"}
+_ELEMENT_KEYS = {"kind", "material", "count", "offset_mm"}
+
+
+def read_toml(path: str | Path) -> dict[str, Any]:
+    """Parse a TOML file; any read or syntax fault becomes an :class:`InputError` naming the file."""
+    path = Path(path)
+    try:
+        raw = path.read_bytes()
+    except FileNotFoundError:
+        raise InputError("file not found; check the path", where=str(path)) from None
+    except IsADirectoryError:
+        raise InputError("is a folder, not a TOML file", where=str(path)) from None
+    except OSError as e:
+        raise InputError(f"cannot be read ({e.strerror})", where=str(path)) from None
+    try:
+        text = raw.decode("utf-8-sig")
+    except UnicodeDecodeError as e:
+        raise InputError(f"is not UTF-8 text (byte {e.start}); save it as UTF-8", where=str(path)) from None
+    try:
+        return tomllib.loads(text)
+    except tomllib.TOMLDecodeError as e:
+        raise InputError(f"TOML syntax error: {e}", where=str(path)) from None
+
+
+def resolve_materials(inline: Any, where: str) -> dict[str, Material]:
+    """Catalogue plus the inline ``[materials.<id>]`` tables (inline ids may not shadow the catalogue)."""
+    mats = dict(catalogue())
+    if inline is None:
+        return mats
+    if not isinstance(inline, Mapping):
+        raise InputError("[materials] must be a table of [materials.<id>] tables", where=where)
+    for mid, d in inline.items():
+        if mid in mats:
+            raise InputError(f"[materials.{mid}] redefines a catalogue material; choose another id", where=where)
+        mats[mid] = material_from_mapping(mid, d, where=where)
+    return mats
+
+
+def _material_message(mid: Any, mats: Mapping[str, Material]) -> str:
+    return unknown_key_message(str(mid), mats, what="material") + " (see `springsynth materials`, or define it under [materials.<id>])"
+
+
+def element_from_mapping(d: Any, mats: Mapping[str, Material], where: str) -> Element:
+    """Validate one ``[[element]]`` table; ``where`` names file and element for messages."""
+    if not isinstance(d, Mapping):
+        raise InputError("must be a table", where=where)
+    kname = d.get("kind")
+    if kname is None:
+        raise InputError(f"missing 'kind'; one of {', '.join(registry())}", where=where)
+    if not isinstance(kname, str) or kname not in registry():
+        raise InputError(unknown_key_message(str(kname), registry(), what="kind") + " (see `springsynth elements`)", where=where)
+    kind = get_kind(kname)
+    allowed = _ELEMENT_KEYS | set(kind.param_names)
+    for k in d:
+        if k not in allowed:
+            raise InputError(unknown_key_message(k, allowed, what=f"field for {kname}"), where=where)
+    mid = d.get("material")
+    if mid is None:
+        raise InputError("missing 'material'", where=where)
+    if not isinstance(mid, str) or mid not in mats:
+        raise InputError(_material_message(mid, mats), where=f"{where}.material")
+    mat = mats[mid]
+    if not mat.suits(kind.forms):
+        raise InputError(
+            f"material {mid!r} ({' '.join(mat.forms)}) does not suit {kname}, which is made from "
+            f"{' or '.join(kind.forms)} material", where=f"{where}.material")
+    count = d.get("count", 1)
+    if isinstance(count, bool) or not isinstance(count, int) or count < 1:
+        raise InputError(f"count must be a whole number >= 1, got {count!r}", where=f"{where}.count")
+    offset = d.get("offset_mm", 0.0)
+    if isinstance(offset, bool) or not isinstance(offset, (int, float)) or not math.isfinite(offset):
+        raise InputError(f"offset_mm must be a finite number of mm, got {offset!r}", where=f"{where}.offset_mm")
+    params: dict[str, float | str] = {}
+    for q in kind.params:
+        w = f"{where}.{q.name}"
+        if q.name not in d:
+            raise InputError(f"missing {q.name} ({q.doc or q.unit}); {kname} needs {', '.join(kind.param_names)}", where=where)
+        v = d[q.name]
+        if q.choices:
+            if v not in q.choices:
+                raise InputError(f"must be one of {', '.join(map(repr, q.choices))}, got {v!r}", where=w)
+            params[q.name] = v
+            continue
+        if isinstance(v, bool) or not isinstance(v, (int, float)) or not math.isfinite(v):
+            raise InputError(f"must be a number ({q.unit}), got {v!r}", where=w)
+        if q.lo > 0 and v <= 0:
+            raise InputError(f"must be > 0 {q.unit}, got {v!r}", where=w)
+        if v < 0:
+            raise InputError(f"must be >= 0 {q.unit}, got {v!r}", where=w)
+        if q.integer and v != int(v):
+            raise InputError(f"must be a whole number, got {v!r}", where=w)
+        params[q.name] = float(v)
+    return Element(kname, mid, int(count), float(offset), params)
+
+
+def design_from_mapping(doc: Mapping[str, Any], *, where: str, name: str | None = None) -> Design:
+    """Build a validated :class:`Design` from a parsed design table."""
+    for k in doc:
+        if k not in _TOP_KEYS:
+            raise InputError(unknown_key_message(k, _TOP_KEYS), where=where)
+    mats = resolve_materials(doc.get("materials"), where)
+    elements = doc.get("element")
+    if not elements:
+        raise InputError("no [[element]] tables; a design needs at least one", where=where)
+    if not isinstance(elements, list):
+        raise InputError("'element' must be an array of tables, written [[element]]", where=where)
+    elems = tuple(element_from_mapping(e, mats, f"{where} element {i + 1}") for i, e in enumerate(elements))
+    used = {e.material: mats[e.material] for e in elems}
+    return Design(elems, used, name=str(doc.get("name", name or Path(where).stem)))
+
+
+def load_design(path: str | Path) -> Design:
+    """Read and validate a design file."""
+    path = Path(path)
+    return design_from_mapping(read_toml(path), where=str(path), name=path.stem)
+
+
+# --------------------------------------------------------------------------- writing
+
+def _fmt(v: Any) -> str:
+    if isinstance(v, str):
+        return '"' + v.replace("\\", "\\\\").replace('"', '\\"') + '"'
+    if isinstance(v, bool):
+        return "true" if v else "false"
+    if isinstance(v, int):
+        return str(v)
+    if isinstance(v, float):
+        return repr(float(v))
+    if isinstance(v, (list, tuple)):
+        return "[" + ", ".join(_fmt(x) for x in v) + "]"
+    raise TypeError(type(v))
+
+
+def material_to_table(m: Material) -> dict[str, Any]:
+    """Inline-material table that :func:`material_from_mapping` reads back to an equal law."""
+    d: dict[str, Any] = {"name": m.name, "density_kg_m3": m.density_kg_m3}
+    if m.hyperelastic:
+        d.update(law="ogden", mu_MPa=list(m.ogden_mu_MPa), alpha=list(m.ogden_alpha),
+                 strain_limit=m.strain_limit, nu=m.nu, yield_MPa=m.yield_MPa, uts_MPa=m.uts_MPa)
+    else:
+        d.update(E_MPa=m.E_MPa, G_MPa=m.G_MPa, nu=m.nu, yield_MPa=m.yield_MPa, uts_MPa=m.uts_MPa)
+    for k in ("fatigue_MPa", "sut_A_MPa", "sut_m", "torsion_share"):
+        v = getattr(m, k)
+        if not math.isnan(v):
+            d[k] = v
+    d["forms"] = list(m.forms)
+    d["source"] = m.source
+    return d
+
+
+def design_to_toml(design: Design, *, header: str = "") -> str:
+    """Design file text; non-catalogue materials are written inline so the file stands alone."""
+    lines = [f"# {h}" for h in header.splitlines()] if header else []
+    lines.append(f"name = {_fmt(design.name)}")
+    cat = catalogue()
+    for mid, m in design.materials.items():
+        if cat.get(mid) == m:
+            continue
+        lines += ["", f"[materials.{mid}]"] + [f"{k} = {_fmt(v)}" for k, v in material_to_table(m).items()]
+    for e in design.elements:
+        lines += ["", "[[element]]", f"kind = {_fmt(e.kind)}", f"material = {_fmt(e.material)}",
+                  f"count = {e.count}", f"offset_mm = {_fmt(float(e.offset_mm))}"]
+        lines += [f"{k} = {_fmt(v)}" for k, v in e.params.items()]
+    return "\n".join(lines) + "\n"

@@ -1,0 +1,140 @@
+"""Run folders (DESIGN.md "Results of a run"): writing them and reading them back."""
+
+from __future__ import annotations
+
+import io
+import json
+import math
+import platform
+from dataclasses import dataclass
+from pathlib import Path
+
+import numpy as np
+import pandas as pd
+
+from . import __version__
+from ._assembly import Design, evaluate_population, Slots
+from ._designio import design_to_toml, load_design
+from ._errors import InputError
+from ._fileio import new_folder, write_bytes_atomic, write_text_atomic
+from ._study import Study, load_study
+from ._synthesis import Synthesis, curve_grid
+
+__all__ = ["write_run", "read_run", "RunFolder", "CAUTION"]
+
+CAUTION = (
+    "Results are estimates from idealised analytic models. Springs store energy and flexures fail in "
+    "fatigue: build and test prototypes, check fatigue life, tolerances and the loading the models leave "
+    "out. Local codes, standards and licensed engineering practice take precedence over these results."
+)
+
+
+def _versions() -> dict[str, str]:
+    import matplotlib
+    import pymoo
+    import scipy
+
+    return {"springsynth": __version__, "python": platform.python_version(), "numpy": np.__version__,
+            "scipy": scipy.__version__, "pymoo": pymoo.__version__, "pandas": pd.__version__,
+            "matplotlib": matplotlib.__version__}
+
+
+def _csv(df: pd.DataFrame) -> str:
+    buf = io.StringIO()
+    df.to_csv(buf, index=False, float_format="%.6g", lineterminator="\n")
+    return buf.getvalue()
+
+
+def curves_frame(study: Study, designs: tuple[Design, ...]) -> pd.DataFrame:
+    """Long table design_id, displacement_mm, force_N over :func:`curve_grid`."""
+    x = curve_grid(study)
+    if not designs:
+        return pd.DataFrame(columns=["design_id", "displacement_mm", "force_N"])
+    r = evaluate_population(Slots.from_designs(list(designs)), x, x_max_mm=study.target.stroke_mm)
+    return pd.DataFrame({
+        "design_id": np.repeat([d.name for d in designs], x.size),
+        "displacement_mm": np.tile(x, len(designs)),
+        "force_N": r.force_N.ravel(),
+    })
+
+
+def write_run(res: Synthesis, out: Path, *, parent: str | None = None, overrides: list[str] = (),
+              plots: bool = True, partial: bool = False) -> Path:
+    """Write the run folder; returns its path (a new folder, never an existing one)."""
+    st = res.study
+    folder = new_folder(out)
+    (folder / "designs").mkdir()
+    table = res.to_frame()
+    write_text_atomic(folder / "pareto.csv", _csv(table))
+    header = f"springsynth {__version__} design {{}} from study {st.name!r}\n{CAUTION}"
+    for d in res.designs:
+        write_text_atomic(folder / "designs" / f"{d.name}.toml", design_to_toml(d, header=header.format(d.name)))
+    write_text_atomic(folder / "curves.csv", _csv(curves_frame(st, res.designs)))
+    if st.path is not None:
+        write_bytes_atomic(folder / "study.toml", Path(st.path).read_bytes())
+    if st.target_path is not None:
+        write_bytes_atomic(folder / "target.csv", Path(st.target_path).read_bytes())
+    meta = {
+        "study": st.name, "study_hash": st.hash(), "seed": res.seed,
+        "budget": {"population": res.population, "generations": res.generations, "evaluations": res.evaluations},
+        "feasible": res.feasible, "partial": partial, "designs": len(res.designs),
+        "parent": parent, "overrides": list(overrides),
+        "timings_s": res.timings, "polish": res.polish, "versions": _versions(),
+        "history": res.history, "caution": CAUTION,
+    }
+    write_text_atomic(folder / "run.json", json.dumps(_plain(meta), indent=1) + "\n")
+    if plots:
+        from ._plots import write_run_plots
+
+        write_run_plots(folder, res)
+    return folder
+
+
+def _plain(o):
+    """JSON-safe copy: numpy scalars to Python, NaN/inf to None."""
+    if isinstance(o, dict):
+        return {str(k): _plain(v) for k, v in o.items()}
+    if isinstance(o, (list, tuple)):
+        return [_plain(v) for v in o]
+    if isinstance(o, (np.integer,)):
+        return int(o)
+    if isinstance(o, (float, np.floating)):
+        return float(o) if math.isfinite(o) else None
+    return o
+
+
+@dataclass(frozen=True)
+class RunFolder:
+    path: Path
+    meta: dict
+    table: pd.DataFrame
+    designs: tuple[Design, ...]
+
+    def study(self, extra_overrides: list[str] = ()) -> Study:
+        """The run's study (its own copy and target), with its overrides and any new ones applied."""
+        target = (self.path / "target.csv").resolve()
+        ov = [f'target.file="{_toml_str(str(target))}"'] + list(self.meta.get("overrides", [])) + list(extra_overrides)
+        return load_study(self.path / "study.toml", overrides=ov)
+
+
+def _toml_str(s: str) -> str:
+    return s.replace("\\", "\\\\").replace('"', '\\"')
+
+
+def read_run(path: Path) -> RunFolder:
+    path = Path(path)
+    if not path.is_dir():
+        raise InputError("is not a run folder (expected a folder written by `springsynth run`)", where=str(path))
+    for need in ("run.json", "pareto.csv", "study.toml", "target.csv"):
+        if not (path / need).exists():
+            raise InputError(f"is not a complete run folder: {need} is missing", where=str(path))
+    try:
+        meta = json.loads((path / "run.json").read_text(encoding="utf-8"))
+    except (json.JSONDecodeError, UnicodeDecodeError) as e:
+        raise InputError(f"run.json is not valid JSON ({e})", where=str(path)) from None
+    try:
+        table = pd.read_csv(path / "pareto.csv")
+    except (pd.errors.ParserError, pd.errors.EmptyDataError) as e:
+        raise InputError(f"pareto.csv cannot be read ({e})", where=str(path)) from None
+    designs = tuple(load_design(path / "designs" / f"{i}.toml") for i in table.get("design_id", []))
+    return RunFolder(path, meta, table, designs)

@@ -1,0 +1,385 @@
+"""The genetic search (NSGA-II, pymoo 0.6.2) and the local polish: a thin adapter.
+
+The physics lives in the element kernels and :mod:`._problem`; this module only
+connects it to pymoo (vectorised ``Problem``, mixed-variable operators on one float
+matrix, hash-based duplicate elimination) and to scipy's least squares.
+"""
+
+from __future__ import annotations
+
+import math
+import time
+from dataclasses import dataclass, field
+from typing import Callable
+
+import numpy as np
+from pymoo.algorithms.moo.nsga2 import NSGA2
+from pymoo.core.crossover import Crossover
+from pymoo.core.duplicate import DuplicateElimination
+from pymoo.core.mutation import Mutation
+from pymoo.core.problem import Problem
+from pymoo.core.repair import Repair
+from pymoo.core.sampling import Sampling
+from pymoo.indicators.hv import HV
+from pymoo.util.nds.non_dominated_sorting import NonDominatedSorting
+from scipy.optimize import least_squares
+
+from ._problem import CONSTRAINTS, Encoding, Scores, score
+from ._study import Study
+
+__all__ = ["run_search", "SearchOutcome", "Progress", "hypervolume"]
+
+
+@dataclass(frozen=True)
+class Progress:
+    """What the search reports after each generation (for a progress bar)."""
+
+    generation: int
+    generations: int
+    evaluations: int
+    feasible_share: float
+    best_error_pct: float
+    hypervolume: float
+
+
+@dataclass
+class SearchOutcome:
+    X: np.ndarray                 # genomes of the returned designs (n, n_var)
+    scores: Scores                # their scores
+    feasible_found: bool
+    history: list[dict] = field(default_factory=list)
+    evaluations: int = 0
+    polish: dict = field(default_factory=dict)
+    timings: dict = field(default_factory=dict)
+
+
+# ---------------------------------------------------------------------- operators
+
+class _Problem(Problem):
+    def __init__(self, study: Study, enc: Encoding):
+        super().__init__(n_var=enc.n_var, n_obj=3, n_ieq_constr=len(CONSTRAINTS), xl=enc.xl, xu=enc.xu)
+        self.study, self.enc = study, enc
+
+    def _evaluate(self, X, out, *args, **kwargs):
+        sc = score(self.study, self.enc.decode(X))
+        out["F"], out["G"] = sc.F, sc.G
+
+
+class _Sampling(Sampling):
+    def __init__(self, enc: Encoding, seed_X: np.ndarray | None = None):
+        super().__init__()
+        self.enc, self.seed_X = enc, seed_X
+
+    def _do(self, problem, n_samples, *args, random_state=None, **kwargs):
+        X = random_genomes(self.enc, n_samples, random_state)
+        if self.seed_X is not None and len(self.seed_X):
+            k = min(len(self.seed_X), n_samples // 2)
+            X[:k] = self.seed_X[:k]
+        return X
+
+
+def random_genomes(enc: Encoding, n: int, rng: np.random.Generator) -> np.ndarray:
+    """Uniform random genomes; slots after the first are empty with probability 1/2."""
+    X = enc.xl + rng.random((n, enc.n_var)) * (enc.xu - enc.xl)
+    K = len(enc.kinds)
+    for s in range(enc.S):
+        b = s * enc.G
+        X[:, b] = rng.integers(1, K + 1, n)
+        if s > 0:
+            X[rng.random(n) < 0.5, b] = 0
+        X[:, b + 2] = rng.integers(1, int(enc.xu[b + 2]) + 1, n)
+    return X
+
+
+class _Crossover(Crossover):
+    """Slot-wise uniform crossover, then SBX on the real genes of slots whose kinds agree."""
+
+    def __init__(self, enc: Encoding, eta: float = 15.0):
+        super().__init__(2, 2, prob=0.9)
+        self.enc, self.eta = enc, eta
+
+    def _do(self, problem, X, *args, random_state=None, **kwargs):
+        enc, rng = self.enc, random_state
+        a, b = X[0].copy(), X[1].copy()
+        n = a.shape[0]
+        swap = rng.random((n, enc.S)) < 0.5
+        swap_g = np.repeat(swap, enc.G, axis=1)
+        c1, c2 = np.where(swap_g, b, a), np.where(swap_g, a, b)
+        same = np.repeat(np.round(c1[:, ::enc.G]) == np.round(c2[:, ::enc.G]), enc.G, axis=1)
+        real = same & ~enc.categorical[None, :] & (rng.random(c1.shape) < 0.5)
+        y1, y2 = _sbx(c1, c2, enc.xl, enc.xu, self.eta, rng)
+        c1, c2 = np.where(real, y1, c1), np.where(real, y2, c2)
+        return np.stack([c1, c2])
+
+
+def _sbx(a, b, xl, xu, eta, rng):
+    """Simulated binary crossover (Deb & Agrawal 1995), bounded form, vectorised."""
+    lo, hi = np.minimum(a, b), np.maximum(a, b)
+    d = np.maximum(hi - lo, 1e-14)
+    u = rng.random(a.shape)
+
+    def child(beta_side):
+        alpha = 2.0 - beta_side ** (-(eta + 1.0))
+        q = np.where(u <= 1.0 / alpha, (u * alpha) ** (1.0 / (eta + 1.0)),
+                     (1.0 / np.maximum(2.0 - u * alpha, 1e-14)) ** (1.0 / (eta + 1.0)))
+        return q
+
+    q1 = child(1.0 + 2.0 * (lo - xl) / d)
+    q2 = child(1.0 + 2.0 * (xu - hi) / d)
+    y1 = 0.5 * ((lo + hi) - q1 * d)
+    y2 = 0.5 * ((lo + hi) + q2 * d)
+    flip = rng.random(a.shape) < 0.5
+    y1, y2 = np.where(flip, y2, y1), np.where(flip, y1, y2)
+    return np.clip(y1, xl, xu), np.clip(y2, xl, xu)
+
+
+class _Mutation(Mutation):
+    """Polynomial mutation on real and integer genes; reset-to-another-category on categories.
+
+    A slot whose kind changes gets fresh random dimensions (the old ones meant
+    something else).
+    """
+
+    def __init__(self, enc: Encoding, eta: float = 20.0):
+        super().__init__(prob=1.0)
+        self.enc, self.eta = enc, eta
+
+    def _do(self, problem, X, *args, random_state=None, **kwargs):
+        enc, rng = self.enc, random_state
+        X = X.copy()
+        n, nv = X.shape
+        p_var = 1.0 / (enc.S * (2 + min(enc.P, 4)))
+        real = ~enc.categorical
+        m = (rng.random((n, nv)) < p_var) & real[None, :]
+        X = np.where(m, _pm(X, enc.xl, enc.xu, self.eta, rng), X)
+        K = len(enc.kinds)
+        for s in range(enc.S):
+            b = s * enc.G
+            change = rng.random(n) < 0.5 * p_var * 2
+            new = rng.integers(0 if s else 1, K + 1, n).astype(float)
+            changed = change & (new != np.round(X[:, b]))
+            X[changed, b] = new[changed]
+            X[np.ix_(changed, np.arange(b + 4, b + enc.G))] = rng.random((changed.sum(), enc.P))
+            mm = rng.random(n) < p_var
+            X[mm, b + 1] = rng.random(mm.sum()) * (1 - 1e-9)
+        return X
+
+
+def _pm(X, xl, xu, eta, rng):
+    """Polynomial mutation (Deb & Goyal 1996), vectorised, bounded."""
+    d = xu - xl
+    d1, d2 = (X - xl) / d, (xu - X) / d
+    u = rng.random(X.shape)
+    p = 1.0 / (eta + 1.0)
+    lo = 2 * u + (1 - 2 * u) * (1 - d1) ** (eta + 1)
+    hi = 2 * (1 - u) + 2 * (u - 0.5) * (1 - d2) ** (eta + 1)
+    dq = np.where(u <= 0.5, np.abs(lo) ** p - 1.0, 1.0 - np.abs(hi) ** p)
+    return np.clip(X + dq * d, xl, xu)
+
+
+class _Repair(Repair):
+    """Round integer and category genes; nothing else (rounding reals would destroy them)."""
+
+    def __init__(self, enc: Encoding):
+        super().__init__()
+        self.enc = enc
+
+    def _do(self, problem, X, **kwargs):
+        X = X.copy()
+        cols = self.enc.integer.copy()
+        cols[0::self.enc.G] = True
+        X[:, cols] = np.round(X[:, cols])
+        return np.clip(X, self.enc.xl, self.enc.xu)
+
+
+class _HashDuplicates(DuplicateElimination):
+    """Duplicates by hashing rounded genome rows: O(n), not pymoo's O(n^2) distance matrix."""
+
+    @staticmethod
+    def _keys(pop):
+        X = pop.get("X")
+        return [r.tobytes() for r in np.round(X, 9)]
+
+    def _do(self, pop, other, is_duplicate):
+        keys = self._keys(pop)
+        seen = set(self._keys(other)) if other is not None else set()
+        for i, k in enumerate(keys):
+            if k in seen:
+                is_duplicate[i] = True
+            else:
+                seen.add(k)
+        return is_duplicate
+
+
+# ---------------------------------------------------------------------- metrics
+
+def normalised_objectives(study: Study, F: np.ndarray) -> np.ndarray:
+    """Objectives scaled for the hypervolume: error / 100 %, stress ratio / limit, size / envelope volume."""
+    env = study.envelope
+    vol = env.length_mm * env.width_mm * env.height_mm
+    return np.stack([F[:, 0] / 100.0, F[:, 1] / study.limits.stress_ratio, F[:, 2] / vol], axis=1)
+
+
+_HV = HV(ref_point=np.ones(3))
+
+
+def hypervolume(study: Study, F: np.ndarray, G: np.ndarray) -> float:
+    """Hypervolume of the feasible points in the normalised objective space, reference (1, 1, 1)."""
+    ok = np.all(G <= 0, axis=1)
+    if not ok.any():
+        return 0.0
+    Z = normalised_objectives(study, F[ok])
+    Z = Z[np.all(Z < 1.0, axis=1)]
+    return float(_HV(Z)) if len(Z) else 0.0
+
+
+# ---------------------------------------------------------------------- search
+
+def run_search(study: Study, *, seed: int, population: int, generations: int,
+               warm_start: np.ndarray | None = None,
+               on_generation: Callable[[Progress], None] | None = None,
+               polish: bool = True, max_designs: int = 40) -> SearchOutcome:
+    """NSGA-II over the study's genome, then the local polish of the Pareto designs."""
+    enc = Encoding(study)
+    problem = _Problem(study, enc)
+    algo = NSGA2(pop_size=population, sampling=_Sampling(enc, warm_start), crossover=_Crossover(enc),
+                 mutation=_Mutation(enc), repair=_Repair(enc), eliminate_duplicates=_HashDuplicates())
+    algo.setup(problem, termination=("n_gen", generations), seed=seed, verbose=False)
+    history: list[dict] = []
+    t0 = time.perf_counter()
+    while algo.has_next():
+        algo.next()
+        pop = algo.pop
+        F, G = pop.get("F"), pop.get("G")
+        ok = np.all(G <= 0, axis=1)
+        best = float(F[ok, 0].min()) if ok.any() else math.nan
+        hv = hypervolume(study, F, G)
+        rec = dict(generation=int(algo.n_gen), evaluations=int(algo.evaluator.n_eval),
+                   feasible_share=float(ok.mean()), best_error_pct=best, hypervolume=hv,
+                   time_s=time.perf_counter() - t0)
+        history.append(rec)
+        if on_generation is not None:
+            on_generation(Progress(rec["generation"], generations, rec["evaluations"], rec["feasible_share"],
+                                   best, hv))
+    t_search = time.perf_counter() - t0
+    X = algo.pop.get("X")
+    sc = score(study, enc.decode(X))
+    X, sc, feasible_found = _front(study, enc, X, sc, max_designs)
+    out = SearchOutcome(X=X, scores=sc, feasible_found=feasible_found, history=history,
+                        evaluations=int(algo.evaluator.n_eval))
+    t1 = time.perf_counter()
+    if polish and feasible_found:
+        X2, info = polish_designs(study, enc, X, sc)
+        allX = np.vstack([X, X2]) if len(X2) else X
+        sc2 = score(study, enc.decode(allX))
+        out.X, out.scores, _ = _front(study, enc, allX, sc2, max_designs)
+        out.polish = info
+    out.timings = {"search_s": t_search, "polish_s": time.perf_counter() - t1}
+    return out
+
+
+def _front(study, enc, X, sc: Scores, max_designs: int):
+    """Feasible non-dominated designs (distinct), or the least-violating ones when none is feasible."""
+    ok = sc.feasible
+    if ok.any():
+        idx = np.flatnonzero(ok)
+        F = sc.F[idx]
+        front = idx[NonDominatedSorting().do(F, only_non_dominated_front=True)]
+        # distinct by objectives (different genomes can decode to the same design)
+        _, first = np.unique(np.round(sc.F[front], 9), axis=0, return_index=True)
+        front = front[np.sort(first)]
+        if len(front) > max_designs:
+            front = _thin(normalised_objectives(study, sc.F[front]), front, max_designs)
+        feasible = True
+    else:
+        order = np.argsort(sc.violation, kind="stable")
+        front = order[: min(5, len(order))]
+        feasible = False
+    front = front[np.lexsort((sc.F[front, 2], sc.F[front, 0]))]
+    sub = enc.decode(X[front])
+    return X[front], score(study, sub), feasible
+
+
+def _thin(Z, idx, k):
+    """Keep k points spread over the front: extremes of each objective, then farthest-point picks."""
+    keep = list(dict.fromkeys(int(i) for i in np.argmin(Z, axis=0)))
+    d = np.min(np.linalg.norm(Z[:, None, :] - Z[None, keep, :], axis=2), axis=1)
+    while len(keep) < k:
+        j = int(np.argmax(d))
+        keep.append(j)
+        d = np.minimum(d, np.linalg.norm(Z - Z[j], axis=1))
+    return idx[np.sort(keep)]
+
+
+# ---------------------------------------------------------------------- polish
+
+def polish_designs(study: Study, enc: Encoding, X: np.ndarray, sc: Scores, *, max_nfev: int = 40):
+    """Refine offsets and continuous dimensions of each design by bounded least squares.
+
+    Residuals are the weighted curve misfit (its norm is ``curve_error_pct``) plus
+    100 x each positive constraint value, so the step stays near the feasible set;
+    a refinement is kept only when it is feasible and lowers the error. Kinds,
+    materials, counts, whole-number and categorical parameters stay fixed. The
+    Jacobian is taken by forward differences, all perturbed designs evaluated in
+    one population call.
+    """
+    t = study.target
+    w = np.sqrt(t.weight / t.weight.sum()) * 100.0 / t.scale_N
+    kept, gains = [], []
+    for i in range(len(X)):
+        x0 = X[i]
+        free = _free_genes(enc, x0)
+        if not free.size:
+            continue
+
+        def full(z):
+            Z = np.repeat(x0[None, :], z.shape[0], axis=0)
+            Z[:, free] = z
+            return Z
+
+        def resid_many(Z):
+            s = score(study, enc.decode(Z))
+            r = (s.response.force_N - t.force_N) * w
+            return np.hstack([r, 100.0 * np.maximum(s.G, 0.0)])
+
+        fun = lambda z: resid_many(full(z[None, :]))[0]  # noqa: E731
+
+        def jac(z):
+            h = 1e-6
+            Z = np.vstack([z, z + h * np.eye(z.size)])
+            R = resid_many(full(Z))
+            return ((R[1:] - R[0]) / h).T
+
+        lb, ub = enc.xl[free], enc.xu[free]
+        z0 = np.clip(x0[free], lb, ub)
+        try:
+            res = least_squares(fun, z0, jac=jac, bounds=(lb, ub), method="trf", max_nfev=max_nfev,
+                                x_scale="jac")
+        except (ValueError, np.linalg.LinAlgError):
+            continue
+        cand = full(res.x[None, :])
+        s_new = score(study, enc.decode(cand))
+        if s_new.feasible[0] and s_new.F[0, 0] < sc.F[i, 0] * (1 - 1e-6):
+            kept.append(cand[0])
+            gains.append((sc.F[i, 0], s_new.F[0, 0]))
+    info = {"designs": int(len(X)), "improved": len(gains)}
+    if gains:
+        g = np.array(gains)
+        info.update(best_error_before_pct=float(sc.F[:, 0].min()), best_error_after_pct=float(min(g[:, 1].min(), sc.F[:, 0].min())),
+                    median_reduction_pct=float(np.median(100 * (1 - g[:, 1] / g[:, 0]))))
+    return (np.array(kept) if kept else np.empty((0, X.shape[1]))), info
+
+
+def _free_genes(enc: Encoding, x: np.ndarray) -> np.ndarray:
+    """Indices of the continuous genes of the occupied slots (offset and real-valued dimensions)."""
+    out = []
+    for s in range(enc.S):
+        b = s * enc.G
+        k = int(round(x[b])) - 1
+        if k < 0:
+            continue
+        out.append(b + 3)
+        for j in range(enc.npar[k]):
+            if not enc.rnd[k, j] and enc.nch[k, j] == 0:
+                out.append(b + 4 + j)
+    return np.array(out, dtype=np.intp)

@@ -1,0 +1,146 @@
+"""The one entry point of the search: :func:`synthesize` -> :class:`Synthesis`."""
+
+from __future__ import annotations
+
+import math
+import platform
+from dataclasses import dataclass, field
+from typing import Callable, Sequence
+
+import numpy as np
+import pandas as pd
+
+from ._assembly import Design, evaluate_design
+from ._problem import CONSTRAINTS, Encoding
+from ._search import Progress, run_search
+from ._study import Study
+
+__all__ = ["synthesize", "Synthesis", "design_table", "curve_grid"]
+
+_CONSTRAINT_WORDS = {
+    "envelope_length": "length along the stroke exceeds the envelope",
+    "envelope_cross": "cross-section exceeds the envelope",
+    "stress": "stress ratio exceeds limits.stress_ratio",
+    "validity": "an element leaves its model's valid range",
+    "min_thickness": "a thickness is below limits.min_thickness_mm",
+    "mass": "mass exceeds limits.max_mass_g",
+}
+
+
+@dataclass(frozen=True)
+class Synthesis:
+    """Result of a search. ``to_frame()`` gives the Pareto table (DESIGN.md columns).
+
+    Attributes
+    ----------
+    study : Study
+    designs : tuple of Design
+        The Pareto designs (or, when nothing is feasible, the closest designs), in
+        table order; ``designs[i].name`` is the design id.
+    objectives : ndarray, shape (n, 3)
+        curve_error_pct, stress_ratio, size_mm3.
+    constraints : ndarray, shape (n, 6)
+        Normalised constraint values (<= 0 satisfied), columns ``CONSTRAINTS``.
+    mass_g : ndarray, shape (n,)
+    feasible : bool
+        Whether any feasible design was found.
+    history : list of dict
+        Per generation: evaluations, feasible share, best error, hypervolume, time.
+    """
+
+    study: Study
+    designs: tuple[Design, ...]
+    objectives: np.ndarray
+    constraints: np.ndarray
+    mass_g: np.ndarray
+    feasible: bool
+    seed: int
+    population: int
+    generations: int
+    evaluations: int
+    history: list = field(default_factory=list)
+    polish: dict = field(default_factory=dict)
+    timings: dict = field(default_factory=dict)
+    validity: dict = field(default_factory=dict)
+
+    def to_frame(self) -> pd.DataFrame:
+        return design_table(self)
+
+    def binding(self, i: int) -> str:
+        """Constraints a design violates, worst first, with the excess in %."""
+        g = self.constraints[i]
+        parts = [(g[j], CONSTRAINTS[j]) for j in range(len(CONSTRAINTS)) if g[j] > 0]
+        parts.sort(reverse=True)
+        out = []
+        for v, name in parts:
+            detail = ""
+            if name == "validity":
+                worst = {k: a[i] for k, a in self.validity.items() if a[i] > 0}
+                detail = " (" + ", ".join(f"{k} +{100 * a:.0f}%" for k, a in sorted(worst.items(), key=lambda kv: -kv[1])) + ")"
+            out.append(f"{_CONSTRAINT_WORDS[name]} by {100 * v:.1f}%{detail}" if v < 1e5 else f"{name}: model failed (NaN)")
+        return "; ".join(out)
+
+
+def curve_grid(study: Study, points: int = 101) -> np.ndarray:
+    """Stroke points for curves: the target's points and an even grid over [0, stroke], mm."""
+    return np.unique(np.r_[np.linspace(0.0, study.target.stroke_mm, points), study.target.x_mm])
+
+
+def design_table(res: Synthesis) -> pd.DataFrame:
+    rows = []
+    for i, d in enumerate(res.designs):
+        row = {
+            "design_id": d.name,
+            "curve_error_pct": res.objectives[i, 0],
+            "stress_ratio": res.objectives[i, 1],
+            "size_mm3": res.objectives[i, 2],
+            "mass_g": res.mass_g[i],
+            "feasible": bool(np.all(res.constraints[i] <= 0)),
+            "topology": d.topology(),
+        }
+        if not row["feasible"]:
+            row["violations"] = res.binding(i)
+        for j, e in enumerate(d.elements, start=1):
+            row[f"e{j}_kind"] = e.kind
+            row[f"e{j}_material"] = e.material
+            row[f"e{j}_count"] = e.count
+            row[f"e{j}_offset_mm"] = e.offset_mm
+            for k, v in e.params.items():
+                row[f"e{j}_{k}"] = v
+        rows.append(row)
+    return pd.DataFrame(rows)
+
+
+def synthesize(study: Study, *, seed: int | None = None, population: int | None = None,
+               generations: int | None = None, warm_start: Sequence[Design] = (),
+               on_generation: Callable[[Progress], None] | None = None) -> Synthesis:
+    """Search the study's design space; return the Pareto set.
+
+    Parameters
+    ----------
+    study : Study
+        From :func:`springsynth.load_study`.
+    seed, population, generations : int, optional
+        Override the study's ``[search]`` values. Same study and seed give the same result.
+    warm_start : sequence of Design
+        Designs placed in the first population (e.g. an earlier run's Pareto set).
+    on_generation : callable, optional
+        Called with a :class:`Progress` after every generation.
+    """
+    s = study.search
+    seed = s.seed if seed is None else int(seed)
+    population = s.population if population is None else int(population)
+    generations = s.generations if generations is None else int(generations)
+    enc = Encoding(study)
+    X0 = enc.encode(list(warm_start)) if warm_start else None
+    out = run_search(study, seed=seed, population=population, generations=generations, warm_start=X0,
+                     on_generation=on_generation, polish=s.polish)
+    slots = enc.decode(out.X)
+    designs = tuple(slots.design(i, name=f"D{i + 1:02d}") for i in range(slots.n))
+    sc = out.scores
+    return Synthesis(
+        study=study, designs=designs, objectives=sc.F, constraints=sc.G, mass_g=sc.response.mass_g,
+        feasible=out.feasible_found, seed=seed, population=population, generations=generations,
+        evaluations=out.evaluations, history=out.history, polish=out.polish, timings=out.timings,
+        validity={k: np.asarray(v) for k, v in sc.response.validity.items()},
+    )

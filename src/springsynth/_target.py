@@ -1,0 +1,274 @@
+"""Target force-displacement curves from CSV (DESIGN.md "Target curve CSV").
+
+Columns: ``displacement``, ``force``; optional ``tolerance`` (a +/- band) or
+``force_min`` and ``force_max``; optional ``weight``. Every header but ``weight``
+carries a unit, as a suffix (``force_N``) or in brackets (``force [lbf]``); units
+other than mm and N are converted with pint.
+"""
+
+from __future__ import annotations
+
+import csv
+import math
+import re
+from dataclasses import dataclass, field
+from functools import lru_cache
+from pathlib import Path
+
+import numpy as np
+
+from ._errors import InputError
+
+__all__ = ["Target", "load_target", "target_from_arrays", "MAX_POINTS"]
+
+#: targets longer than this are resampled (with a notice) to RESAMPLED_POINTS points
+MAX_POINTS = 2000
+RESAMPLED_POINTS = 400
+
+_COLUMNS = ("force_min", "force_max", "displacement", "tolerance", "force", "weight")
+_HEADER = re.compile(r"^\s*(" + "|".join(_COLUMNS) + r")(?:_([A-Za-z0-9]+)|\s*\[\s*([^\]]*?)\s*\])?\s*$", re.I)
+_DIMENSION = {"displacement": ("[length]", "mm"), "force": ("[force]", "N"), "tolerance": ("[force]", "N"),
+              "force_min": ("[force]", "N"), "force_max": ("[force]", "N")}
+
+
+@dataclass(frozen=True)
+class Target:
+    """A target curve in mm and N, validated when built.
+
+    Attributes
+    ----------
+    x_mm, force_N : ndarray, shape (m,)
+        Strictly increasing displacement >= 0; target force.
+    force_lo_N, force_hi_N : ndarray, shape (m,) or None
+        Acceptance band, when given.
+    weight : ndarray, shape (m,)
+        Non-negative weights of the RMS error (ones by default).
+    name : str
+    notices : tuple of str
+        Conversions or resampling applied on read, to show the user.
+    """
+
+    x_mm: np.ndarray
+    force_N: np.ndarray
+    force_lo_N: np.ndarray | None = None
+    force_hi_N: np.ndarray | None = None
+    weight: np.ndarray | None = None
+    name: str = "target"
+    notices: tuple[str, ...] = field(default=())
+
+    def __post_init__(self):
+        x, f = np.asarray(self.x_mm, float), np.asarray(self.force_N, float)
+        w = np.ones_like(x) if self.weight is None else np.asarray(self.weight, float)
+        object.__setattr__(self, "x_mm", x)
+        object.__setattr__(self, "force_N", f)
+        object.__setattr__(self, "weight", w)
+        where = self.name
+        if x.ndim != 1 or x.size < 3 or f.shape != x.shape or w.shape != x.shape:
+            raise InputError(f"needs at least 3 rows of displacement and force, got {x.size}", where=where)
+        for arr, nm in ((x, "displacement"), (f, "force"), (w, "weight")):
+            bad = np.flatnonzero(~np.isfinite(arr))
+            if bad.size:
+                raise InputError(f"{nm} is not a finite number at point {bad[0] + 1}", where=where)
+        if x[0] < 0:
+            raise InputError(f"displacement must be >= 0 (the stroke), got {x[0]:g} mm at point 1", where=where)
+        d = np.flatnonzero(np.diff(x) <= 0)
+        if d.size:
+            i = d[0]
+            raise InputError(f"displacement must increase strictly: point {i + 2} ({x[i + 1]:g} mm) follows "
+                             f"{x[i]:g} mm", where=where)
+        if np.any(w < 0) or not np.any(w > 0):
+            raise InputError("weights must be >= 0 and not all zero", where=where)
+        if not np.any(f != 0):
+            raise InputError("force is zero everywhere; nothing to match", where=where)
+        if (self.force_lo_N is None) != (self.force_hi_N is None):
+            raise InputError("give both force_min and force_max, or neither", where=where)
+        if self.force_lo_N is not None:
+            lo, hi = np.asarray(self.force_lo_N, float), np.asarray(self.force_hi_N, float)
+            object.__setattr__(self, "force_lo_N", lo)
+            object.__setattr__(self, "force_hi_N", hi)
+            bad = np.flatnonzero(~((lo <= f) & (f <= hi)))
+            if bad.size:
+                i = bad[0]
+                raise InputError(f"the band [{lo[i]:g}, {hi[i]:g}] N does not contain the force {f[i]:g} N at "
+                                 f"point {i + 1}", where=where)
+
+    @property
+    def has_band(self) -> bool:
+        return self.force_lo_N is not None
+
+    @property
+    def stroke_mm(self) -> float:
+        return float(self.x_mm[-1])
+
+    @property
+    def scale_N(self) -> float:
+        """``max |F_target|``, the normaliser of ``curve_error_pct``."""
+        return float(np.max(np.abs(self.force_N)))
+
+    def curve_error_pct(self, force_N: np.ndarray) -> np.ndarray:
+        """``100 RMS_w(F - F_target) / max|F_target|`` for forces of shape (n, m) -> (n,)."""
+        r = force_N - self.force_N
+        return 100.0 * np.sqrt((r * r) @ self.weight / self.weight.sum()) / self.scale_N
+
+    def in_band(self, force_N: np.ndarray) -> np.ndarray:
+        """Whether each curve (n, m) lies inside the band at every point, shape (n,)."""
+        if not self.has_band:
+            raise ValueError("target has no band")
+        return np.all((force_N >= self.force_lo_N) & (force_N <= self.force_hi_N), axis=1)
+
+
+def target_from_arrays(x_mm, force_N, *, tolerance_N=None, name="target", weight=None) -> Target:
+    """Convenience constructor (tests, API): a +/- ``tolerance_N`` band when given."""
+    f = np.asarray(force_N, float)
+    lo = hi = None
+    if tolerance_N is not None:
+        tol = np.broadcast_to(np.asarray(tolerance_N, float), f.shape)
+        lo, hi = f - tol, f + tol
+    return Target(np.asarray(x_mm, float), f, lo, hi, weight, name=name)
+
+
+@lru_cache(maxsize=1)
+def _ureg():
+    import pint
+
+    return pint.UnitRegistry()
+
+
+def _factor(unit: str, column: str, where: str) -> float:
+    """Multiplier from ``unit`` to mm or N for ``column``."""
+    dim, base = _DIMENSION[column]
+    if unit == base:
+        return 1.0
+    import pint
+
+    ureg = _ureg()
+    try:
+        q = ureg.Quantity(1.0, unit)
+    except (pint.errors.UndefinedUnitError, pint.errors.DefinitionSyntaxError, ValueError, AttributeError, TypeError, AssertionError):
+        raise InputError(f"unknown unit {unit!r} for {column}; use e.g. {base}", where=where) from None
+    if q.dimensionality != ureg.Quantity(1.0, base).dimensionality:
+        raise InputError(f"unit {unit!r} is not a {dim.strip('[]')} unit, as {column} needs (e.g. {base})", where=where)
+    return float(q.to(base).magnitude)
+
+
+def _parse_header(cells: list[str], where: str) -> dict[str, tuple[int, float]]:
+    cols: dict[str, tuple[int, float]] = {}
+    for j, raw in enumerate(cells):
+        h = raw.strip()
+        m = _HEADER.match(h)
+        if not m:
+            raise InputError(f"unknown column {h!r} (column {j + 1}); expected displacement_mm, force_N and "
+                             f"optionally tolerance_N, force_min_N, force_max_N, weight", where=where)
+        name = m.group(1).lower()
+        unit = m.group(2) or m.group(3)
+        if name in cols:
+            raise InputError(f"column {name!r} appears twice (column {j + 1})", where=where)
+        if name == "weight":
+            if unit not in (None, "", "-"):
+                raise InputError(f"weight takes no unit, got {unit!r}", where=where)
+            cols[name] = (j, 1.0)
+            continue
+        if not unit:
+            base = _DIMENSION[name][1]
+            raise InputError(f"header {h!r} (column {j + 1}) has no unit; write {name}_{base} or {name} [unit]", where=where)
+        cols[name] = (j, _factor(unit, name, f"{where} column {j + 1} ({h})"))
+    for need in ("displacement", "force"):
+        if need not in cols:
+            raise InputError(f"missing column {need!r} (e.g. {need}_{_DIMENSION[need][1]}); found "
+                             f"{', '.join(c.strip() for c in cells)}", where=where)
+    if "tolerance" in cols and ("force_min" in cols or "force_max" in cols):
+        raise InputError("give either tolerance or force_min/force_max, not both", where=where)
+    if ("force_min" in cols) != ("force_max" in cols):
+        raise InputError("force_min and force_max come together", where=where)
+    return cols
+
+
+def load_target(path: str | Path) -> Target:
+    """Read and validate a target CSV; errors name the file, row and column."""
+    path = Path(path)
+    where = str(path)
+    try:
+        fh = path.open("r", encoding="utf-8-sig", newline="")
+    except FileNotFoundError:
+        raise InputError("file not found; check the path", where=where) from None
+    except IsADirectoryError:
+        raise InputError("is a folder, not a CSV file", where=where) from None
+    except OSError as e:
+        raise InputError(f"cannot be read ({e.strerror})", where=where) from None
+    notices: list[str] = []
+    try:
+        with fh:
+            rows = _read_rows(fh, where)
+            header_row, header = next(rows, (0, None))
+            if header is None:
+                raise InputError("is empty; expected a header displacement_mm,force_N and at least 3 rows", where=where)
+            if len(header) == 1 and (";" in header[0] or "\t" in header[0]):
+                sep = "semicolons" if ";" in header[0] else "tabs"
+                raise InputError(f"row {header_row}: columns are separated by {sep}; use commas", where=where)
+            cols = _parse_header(header, where)
+            ncol = len(header)
+            data: dict[str, list[float]] = {c: [] for c in cols}
+            rownos: list[int] = []
+            for rowno, cells in rows:
+                rownos.append(rowno)
+                if len(cells) != ncol:
+                    raise InputError(f"row {rowno} has {len(cells)} cells, the header has {ncol}", where=where)
+                for name, (j, fac) in cols.items():
+                    text = cells[j].strip()
+                    try:
+                        v = float(text)
+                    except ValueError:
+                        hint = " (decimal comma? use a point)" if re.fullmatch(r"-?\d+,\d+", text) else ""
+                        raise InputError(f"row {rowno}, column {name}: {text!r} is not a number{hint}", where=where) from None
+                    if not math.isfinite(v):
+                        raise InputError(f"row {rowno}, column {name}: {text!r} is not a finite number", where=where)
+                    data[name].append(v * fac)
+    except UnicodeDecodeError as e:
+        raise InputError(f"is not UTF-8 text (byte {e.start}); save it as UTF-8 CSV", where=where) from None
+    except csv.Error as e:
+        raise InputError(f"CSV syntax error: {e}", where=where) from None
+
+    x = np.array(data["displacement"])
+    if x.size < 3:
+        raise InputError(f"has {x.size} data rows; at least 3 are needed", where=where)
+    # report ordering faults by file row before any resampling
+    d = np.flatnonzero(np.diff(x) <= 0)
+    if d.size:
+        i = int(d[0])
+        raise InputError(f"row {rownos[i + 1]}: displacement must increase strictly, but {x[i + 1]:g} mm "
+                         f"follows {x[i]:g} mm", where=where)
+    if x[0] < 0:
+        raise InputError(f"row {rownos[0]}: displacement must be >= 0 (a stroke), got {x[0]:g} mm", where=where)
+    f = np.array(data["force"])
+    lo = hi = None
+    if "tolerance" in data:
+        tol = np.array(data["tolerance"])
+        if np.any(tol < 0):
+            i = int(np.flatnonzero(tol < 0)[0])
+            raise InputError(f"row {rownos[i]}: tolerance must be >= 0, got {tol[i]:g} N", where=where)
+        lo, hi = f - tol, f + tol
+    elif "force_min" in data:
+        lo, hi = np.array(data["force_min"]), np.array(data["force_max"])
+        bad = np.flatnonzero(~((lo <= f) & (f <= hi)))
+        if bad.size:
+            i = int(bad[0])
+            raise InputError(f"row {rownos[i]}: the band [{lo[i]:g}, {hi[i]:g}] N does not contain the force "
+                             f"{f[i]:g} N", where=where)
+    w = np.array(data["weight"]) if "weight" in data else None
+    if x.size > MAX_POINTS:
+        xs = np.linspace(x[0], x[-1], RESAMPLED_POINTS)
+        notices.append(f"{x.size} rows resampled to {RESAMPLED_POINTS} evenly spaced points")
+        f = np.interp(xs, x, f)
+        lo = None if lo is None else np.interp(xs, x, lo)
+        hi = None if hi is None else np.interp(xs, x, hi)
+        w = None if w is None else np.interp(xs, x, w)
+        x = xs
+    return Target(x, f, lo, hi, w, name=where, notices=tuple(notices))
+
+
+def _read_rows(fh, where):
+    """Yield (1-based file row, cells) for non-blank, non-comment rows."""
+    for i, cells in enumerate(csv.reader(fh), start=1):
+        if not cells or all(not c.strip() for c in cells) or cells[0].lstrip().startswith("#"):
+            continue
+        yield i, cells

@@ -1,0 +1,322 @@
+"""Command line: each command parses, loads, computes through the public API and writes."""
+
+from __future__ import annotations
+
+import functools
+import math
+import sys
+from datetime import datetime
+from enum import Enum
+from pathlib import Path
+from typing import List, Optional
+
+import typer
+from rich.console import Console
+from rich.table import Table
+
+from ._errors import InputError
+
+app = typer.Typer(add_completion=False, no_args_is_help=True, pretty_exceptions_enable=False,
+                  help="springsynth: from a target force-displacement curve to Pareto-optimal springs and flexures.")
+out = Console(highlight=False)
+err = Console(stderr=True, highlight=False)
+
+
+def _guard(fn):
+    """Turn input errors into one line and exit code 2; Ctrl-C into exit code 130."""
+
+    @functools.wraps(fn)
+    def wrapper(*a, **k):
+        try:
+            return fn(*a, **k)
+        except InputError as e:
+            err.print(f"[bold red]error:[/] {e}", soft_wrap=True)
+            raise typer.Exit(2)
+        except KeyboardInterrupt:
+            err.print("interrupted")
+            raise typer.Exit(130)
+
+    return wrapper
+
+
+def _caution():
+    from ._runio import CAUTION
+
+    out.print(f"[dim]Caution: {CAUTION}[/]", soft_wrap=True)
+
+
+# ------------------------------------------------------------------------- evaluate
+
+class Fmt(str, Enum):
+    table = "table"
+    csv = "csv"
+
+
+@app.command()
+@_guard
+def evaluate(
+    design: Path = typer.Argument(..., help="design TOML file"),
+    at: Optional[Path] = typer.Option(None, "--at", help="evaluate at the points of this target CSV (and report the error)"),
+    to: Optional[float] = typer.Option(None, "--to", help="largest displacement, mm (with --points)"),
+    points: int = typer.Option(41, "--points", help="number of evenly spaced points from 0 to --to"),
+    out_csv: Optional[Path] = typer.Option(None, "--out", help="write displacement_mm,force_N,stress_ratio and per-element forces"),
+    plot: Optional[Path] = typer.Option(None, "--plot", help="write a PNG of force (stacked by element) and stress ratio"),
+):
+    """Forward model of one design: force and stress ratio along the stroke."""
+    import numpy as np
+
+    from ._assembly import evaluate_design
+    from ._designio import load_design
+    from ._target import load_target
+
+    d = load_design(design)
+    target = None
+    if at is not None and to is not None:
+        raise InputError("give either --at TARGET.csv or --to X, not both", where="evaluate")
+    if at is not None:
+        target = load_target(at)
+        x = target.x_mm
+    elif to is not None:
+        if not (math.isfinite(to) and to > 0):
+            raise InputError(f"--to must be a positive number of mm, got {to}", where="evaluate")
+        if points < 2:
+            raise InputError(f"--points must be at least 2, got {points}", where="evaluate")
+        x = np.linspace(0.0, to, points)
+    else:
+        raise InputError("say where to evaluate: --to X (mm, with --points N) or --at TARGET.csv", where="evaluate")
+    r = evaluate_design(d, x)
+    frame = _evaluation_frame(d, r)
+    tab = Table(title=f"{d.name}: {d.topology()}", title_justify="left")
+    for c in frame.columns:
+        tab.add_column(c, justify="right")
+    step = max(1, len(frame) // 12)
+    shown = sorted(set(range(0, len(frame), step)) | {len(frame) - 1})
+    for i in shown:
+        tab.add_row(*[f"{v:.4g}" for v in frame.iloc[i]])
+    out.print(tab)
+    out.print(f"peak stress ratio {r.stress_ratio[0]:.3g}; size {r.size_mm3[0]:.4g} mm³ "
+              f"({r.box_mm[0, 0]:.3g} x {r.box_mm[0, 1]:.3g} x {r.box_mm[0, 2]:.3g} mm); mass {r.mass_g[0]:.3g} g")
+    if target is not None:
+        out.print(f"curve error against {at}: {target.curve_error_pct(r.force_N)[0]:.3f} %")
+    outside = {k: v[0] for k, v in r.validity.items() if v[0] > 0}
+    if not r.finite[0]:
+        outside["numerical"] = math.inf
+    if out_csv is not None:
+        from ._fileio import write_text_atomic
+
+        write_text_atomic(out_csv, frame.to_csv(index=False, float_format="%.8g", lineterminator="\n"))
+        out.print(f"wrote {out_csv}")
+    if plot is not None:
+        from ._plots import plot_design, save
+
+        save(plot_design(d, r, target=target, title=f"{d.name}: {len(d.elements)} element(s) in parallel"), plot)
+        out.print(f"wrote {plot}")
+    _caution()
+    if outside:
+        msg = ", ".join(f"{k} +{100 * v:.0f}%" for k, v in outside.items())
+        err.print(f"[bold yellow]warning:[/] outside the models' valid range ({msg}); these forces are not trustworthy")
+
+
+def _evaluation_frame(d, r):
+    import pandas as pd
+
+    cols = {"displacement_mm": r.x_mm, "force_N": r.force_N[0], "stress_ratio": r.stress_ratio_curve[0]}
+    for j, e in enumerate(d.elements):
+        cols[f"e{j + 1}_{e.kind}_N"] = r.element_force_N[0, j]
+    return pd.DataFrame(cols)
+
+
+# ------------------------------------------------------------------------- catalogues
+
+@app.command()
+@_guard
+def elements(fmt: Fmt = typer.Option(Fmt.table, "--format", help="table or csv")):
+    """The element kinds: parameters, bounds, validity and sources."""
+    from .elements import registry
+
+    rows = []
+    for k in registry().values():
+        for q in k.params:
+            rng = " | ".join(q.choices) if q.choices else f"{q.lo:g} .. {q.hi:g}"
+            rows.append({"kind": k.name, "parameter": q.name, "unit": q.unit, "range": rng, "scale": "log" if q.log else "lin",
+                         "forms": " ".join(k.forms), "validity": k.validity, "sources": "; ".join(k.sources)})
+    if fmt == Fmt.csv:
+        import pandas as pd
+
+        sys.stdout.write(pd.DataFrame(rows).to_csv(index=False, lineterminator="\n"))
+        return
+    for k in registry().values():
+        t = Table(title=f"[bold]{k.name}[/]: {k.title}", title_justify="left", show_edge=False)
+        for c in ("parameter", "unit", "range", "scale", "meaning"):
+            t.add_column(c)
+        for q in k.params:
+            t.add_row(q.name, q.unit, " | ".join(q.choices) if q.choices else f"{q.lo:g} .. {q.hi:g}",
+                      "log" if q.log else "lin", q.doc)
+        out.print(t)
+        out.print(f"  made from: {' or '.join(k.forms)} material;  stroke: {k.stroke_note}")
+        out.print(f"  valid: {k.validity}")
+        if k.stress_note:
+            out.print(f"  stress: {k.stress_note}")
+        for s in k.sources:
+            out.print(f"  source: {s}", soft_wrap=True)
+        out.print()
+
+
+@app.command()
+@_guard
+def materials(fmt: Fmt = typer.Option(Fmt.table, "--format", help="table or csv")):
+    """The materials catalogue, with the kinds each suits and its sources."""
+    import dataclasses
+
+    import pandas as pd
+
+    from ._materials import catalogue
+    from .elements import registry
+
+    rows = []
+    for m in catalogue().values():
+        d = dataclasses.asdict(m)
+        d["forms"] = " ".join(m.forms)
+        d["ogden_mu_MPa"] = " ".join(f"{v:g}" for v in m.ogden_mu_MPa)
+        d["ogden_alpha"] = " ".join(f"{v:g}" for v in m.ogden_alpha)
+        d["kinds"] = " ".join(k.name for k in registry().values() if m.suits(k.forms))
+        rows.append(d)
+    df = pd.DataFrame(rows)
+    if fmt == Fmt.csv:
+        sys.stdout.write(df.to_csv(index=False, lineterminator="\n"))
+        return
+    t = Table(title="materials (MPa, kg/m³)", title_justify="left")
+    for c in ("id", "E_MPa", "G_MPa", "nu", "density_kg_m3", "yield_MPa", "fatigue_MPa", "law", "kinds"):
+        t.add_column(c)
+    for r in rows:
+        t.add_row(r["id"], f"{r['E_MPa']:.4g}", f"{r['G_MPa']:.4g}", f"{r['nu']:.3g}", f"{r['density_kg_m3']:.4g}",
+                  f"{r['yield_MPa']:.4g}", "" if math.isnan(r["fatigue_MPa"]) else f"{r['fatigue_MPa']:.4g}", r["law"], r["kinds"])
+    out.print(t)
+    out.print("[dim]Typical values; grade and process move them. `--format csv` adds the sources.[/]")
+
+
+# ------------------------------------------------------------------------- check
+
+@app.command()
+@_guard
+def check(file: Path = typer.Argument(..., help="a target CSV, a study TOML or a design TOML")):
+    """Validate a target, study or design file and say what is wrong."""
+    from ._designio import load_design, read_toml
+    from ._study import load_study
+    from ._target import load_target
+
+    if file.suffix.lower() == ".csv":
+        t = load_target(file)
+        out.print(f"{file}: target with {t.x_mm.size} points over 0 .. {t.stroke_mm:g} mm, "
+                  f"force {t.force_N.min():.4g} .. {t.force_N.max():.4g} N" + (", with a band" if t.has_band else ""))
+        for n in t.notices:
+            out.print(f"notice: {n}")
+        return
+    doc = read_toml(file)
+    if "element" in doc:
+        d = load_design(file)
+        out.print(f"{file}: design with {len(d.elements)} element(s): {d.topology()}")
+        return
+    st = load_study(file)
+    out.print(f"{file}: study {st.name!r}: target {st.target_path} ({st.target.x_mm.size} points, stroke "
+              f"{st.target.stroke_mm:g} mm); {len(st.search.kinds)} kinds, {len(st.search.materials)} materials, "
+              f"up to {st.search.max_elements} elements")
+
+
+# ------------------------------------------------------------------------- run
+
+def _progress_runner(study, **kw):
+    from rich.progress import BarColumn, MofNCompleteColumn, Progress, TextColumn, TimeElapsedColumn
+
+    from ._synthesis import synthesize
+
+    cols = [TextColumn("generation"), MofNCompleteColumn(), BarColumn(), TextColumn("{task.fields[info]}"),
+            TimeElapsedColumn()]
+    with Progress(*cols, console=err, transient=False) as prog:
+        task = prog.add_task("search", total=kw.get("generations") or study.search.generations, info="")
+
+        def on_gen(p):
+            best = "-" if math.isnan(p.best_error_pct) else f"{p.best_error_pct:.2f}%"
+            prog.update(task, completed=p.generation, total=p.generations,
+                        info=f"evals {p.evaluations}  feasible {100 * p.feasible_share:.0f}%  best error {best}  HV {p.hypervolume:.3f}")
+
+        return synthesize(study, on_generation=on_gen, **kw)
+
+
+def _finish_run(res, folder):
+    df = res.to_frame()
+    t = Table(title=f"Pareto set ({len(df)} designs) -> {folder}", title_justify="left")
+    for c in ("design_id", "curve_error_pct", "stress_ratio", "size_mm3", "mass_g", "topology"):
+        t.add_column(c, overflow="fold")
+    for _, r in df.head(12).iterrows():
+        t.add_row(r.design_id, f"{r.curve_error_pct:.3g}", f"{r.stress_ratio:.3g}", f"{r.size_mm3:.4g}",
+                  f"{r.mass_g:.3g}", r.topology)
+    out.print(t)
+    if len(df) > 12:
+        out.print(f"... {len(df) - 12} more in {folder / 'pareto.csv'}")
+    if res.polish.get("improved"):
+        p = res.polish
+        out.print(f"local polish improved {p['improved']} of {p['designs']} designs (median error reduction "
+                  f"{p['median_reduction_pct']:.0f}%)")
+    _caution()
+    if not res.feasible:
+        err.print("[bold red]no feasible design found.[/] The closest designs and what they violate:")
+        for i, d in enumerate(res.designs):
+            err.print(f"  {d.name}: {res.binding(i)}", soft_wrap=True)
+        err.print("They are written, marked infeasible. Loosen the binding limits or widen the envelope.")
+        raise typer.Exit(1)
+
+
+def _default_out(name: str) -> Path:
+    return Path("runs") / f"{name}-{datetime.now().strftime('%Y%m%d-%H%M%S')}"
+
+
+@app.command()
+@_guard
+def run(
+    study: Path = typer.Argument(..., help="study TOML file"),
+    out_dir: Optional[Path] = typer.Option(None, "--out", help="run folder to create (default runs/<name>-<time>)"),
+    population: Optional[int] = typer.Option(None, "--population", min=4),
+    generations: Optional[int] = typer.Option(None, "--generations", min=1),
+    seed: Optional[int] = typer.Option(None, "--seed", min=0),
+):
+    """Search for Pareto-optimal designs that follow the study's target curve."""
+    from ._runio import write_run
+    from ._study import load_study
+
+    st = load_study(study)
+    for n in st.target.notices:
+        err.print(f"notice: {n}")
+    res = _progress_runner(st, population=population, generations=generations, seed=seed)
+    folder = write_run(res, out_dir or _default_out(st.name))
+    _finish_run(res, folder)
+
+
+@app.command()
+@_guard
+def rerun(
+    run_dir: Path = typer.Argument(..., help="an earlier run folder"),
+    set_: List[str] = typer.Option([], "--set", help="override, e.g. limits.stress_ratio=0.6 (repeatable)"),
+    out_dir: Optional[Path] = typer.Option(None, "--out", help="run folder to create"),
+    population: Optional[int] = typer.Option(None, "--population", min=4),
+    generations: Optional[int] = typer.Option(None, "--generations", min=1),
+    seed: Optional[int] = typer.Option(None, "--seed", min=0),
+):
+    """The same study with settings changed, warm-started from the run's Pareto designs."""
+    from ._runio import read_run, write_run
+
+    parent = read_run(run_dir)
+    st = parent.study(set_)
+    res = _progress_runner(st, population=population, generations=generations, seed=seed,
+                           warm_start=parent.designs)
+    overrides = list(parent.meta.get("overrides", [])) + list(set_)
+    folder = write_run(res, out_dir or _default_out(st.name), parent=str(run_dir), overrides=overrides)
+    _finish_run(res, folder)
+
+
+def main():  # console-script entry point
+    app()
+
+
+if __name__ == "__main__":
+    main()
