@@ -295,7 +295,7 @@ def evaluate_population(slots: Slots, x_mm: np.ndarray, *, x_max_mm: float | Non
                     peak = kind.peak_stress_ratio(p, mat, grid)
                 margins = kind.validity_margins(p, mat, u_max)
                 a, c1, c2 = (np.broadcast_to(v, rows.shape) for v in kind.box(p, u_max))
-                ms = kind.mass(p, mat) * cnt
+                ms = kind.mass(p, mat, u_max) * cnt
 
             ok = np.all(np.isfinite(f), axis=1) & np.isfinite(peak) & np.isfinite(a) & np.isfinite(c1) \
                 & np.isfinite(c2) & np.isfinite(ms)

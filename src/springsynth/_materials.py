@@ -210,6 +210,9 @@ def material_from_mapping(mid: str, d: Mapping[str, Any], *, where: str) -> Mate
         strain_limit = get("strain_limit")
     else:
         mu0 = 0.5 * sum(m * a for m, a in zip(mu, alpha))
+        if not mu0 > 0:
+            raise InputError(f"the {law} constants give a non-positive initial shear modulus {mu0:.4g} MPa "
+                             "(mu = sum(mu_p alpha_p)/2 must be > 0)", where=where)
         nu = get("nu", 0.499)
         G = mu0
         E = 2 * mu0 * (1 + nu)
@@ -221,13 +224,16 @@ def material_from_mapping(mid: str, d: Mapping[str, Any], *, where: str) -> Mate
         forms = forms.split()
     if not isinstance(forms, (list, tuple)) or not all(isinstance(f, str) for f in forms):
         raise InputError(f"forms must be a list of strings, got {forms!r}", where=where)
-    return Material(
-        id=mid, name=str(d.get("name", mid)), E_MPa=E, G_MPa=G, nu=nu, density_kg_m3=density,
-        yield_MPa=yld, uts_MPa=uts, fatigue_MPa=get("fatigue_MPa"), sut_A_MPa=get("sut_A_MPa"),
-        sut_m=get("sut_m"), torsion_share=get("torsion_share"), forms=tuple(forms), law=law,
-        ogden_mu_MPa=mu, ogden_alpha=alpha, strain_limit=strain_limit,
-        source=str(d.get("source", "defined inline by the user")),
-    )
+    try:
+        return Material(
+            id=mid, name=str(d.get("name", mid)), E_MPa=E, G_MPa=G, nu=nu, density_kg_m3=density,
+            yield_MPa=yld, uts_MPa=uts, fatigue_MPa=get("fatigue_MPa"), sut_A_MPa=get("sut_A_MPa"),
+            sut_m=get("sut_m"), torsion_share=get("torsion_share"), forms=tuple(forms), law=law,
+            ogden_mu_MPa=mu, ogden_alpha=alpha, strain_limit=strain_limit,
+            source=str(d.get("source", "defined inline by the user")),
+        )
+    except InputError as e:  # name the file and table, not only the material id
+        raise InputError(str(e).removeprefix(f"material {mid!r}: "), where=where) from None
 
 
 # --------------------------------------------------------------------------- catalogue

@@ -62,7 +62,7 @@ class Encoding:
         self.kinds = s.kinds
         self.materials = s.materials
         self.S = s.max_elements
-        self.P = max(len(k.params) for k in self.kinds)
+        self.P = max(max(len(k.params), len(k.search_params)) for k in self.kinds)
         self.G = 4 + self.P
         self.stroke = study.target.stroke_mm
         K, P = len(self.kinds), self.P
@@ -72,9 +72,9 @@ class Encoding:
         self.log = np.zeros((K, P), bool)
         self.rnd = np.zeros((K, P), bool)
         self.nch = np.zeros((K, P), int)
-        self.npar = np.array([len(k.params) for k in self.kinds])
+        self.npar = np.array([len(k.search_params) for k in self.kinds])
         for i, k in enumerate(self.kinds):
-            for j, q in enumerate(k.params):
+            for j, q in enumerate(k.search_params):
                 hi = min(q.hi, cap) if q.unit == "mm" and q.lo > 0 else q.hi
                 self.lo[i, j], self.hi[i, j] = q.lo, max(hi, q.lo)
                 self.log[i, j] = q.log
@@ -98,7 +98,18 @@ class Encoding:
 
     # ------------------------------------------------------------------ decode
     def values(self, k: int, z: np.ndarray) -> np.ndarray:
-        """Physical parameter values of kind ``k`` from unit genes ``z`` (n, P)."""
+        """Parameter values of kind ``k`` (in ``kind.params`` order) from unit genes ``z`` (n, P)."""
+        kind = self.kinds[k]
+        q = self._search_values(k, z)
+        if kind.search_params is kind.params:
+            return q
+        p = kind.from_search({sp.name: q[:, j] for j, sp in enumerate(kind.search_params)})
+        out = np.zeros_like(q)
+        for j, par in enumerate(kind.params):
+            out[:, j] = p[par.name]
+        return out
+
+    def _search_values(self, k: int, z: np.ndarray) -> np.ndarray:
         lo, hi = self.lo[k], self.hi[k]
         z = np.clip(z, 0.0, 1.0)
         with np.errstate(divide="ignore"):
@@ -153,8 +164,11 @@ class Encoding:
                 X[i, base + 1] = (suit.index(mi) + 0.5) / len(suit)
                 X[i, base + 2] = e.count
                 X[i, base + 3] = e.offset_mm / self.stroke
+                kind = self.kinds[k]
                 vals = e.values()
-                for j, q in enumerate(self.kinds[k].params):
+                if kind.search_params is not kind.params:
+                    vals = {n: float(np.ravel(v)[0]) for n, v in kind.to_search({n: np.array([v]) for n, v in vals.items()}).items()}
+                for j, q in enumerate(kind.search_params):
                     v, lo, hi = vals[q.name], self.lo[k, j], self.hi[k, j]
                     if q.choices:
                         z = (v + 0.5) / len(q.choices)

@@ -21,6 +21,7 @@ from pymoo.core.problem import Problem
 from pymoo.core.repair import Repair
 from pymoo.core.sampling import Sampling
 from pymoo.indicators.hv import HV
+from pymoo.operators.survival.rank_and_crowding import RankAndCrowding
 from pymoo.util.nds.non_dominated_sorting import NonDominatedSorting
 from scipy.optimize import least_squares
 
@@ -211,6 +212,58 @@ class _HashDuplicates(DuplicateElimination):
         return is_duplicate
 
 
+class _TopologySurvival(RankAndCrowding):
+    """NSGA-II survival that keeps a share of places for topologies otherwise lost.
+
+    A new element kind joins a design with random dimensions and is nearly always
+    worse at first than the designs around it, so plain rank-and-crowding survival
+    drops it before crossover and mutation can tune it: the population settles on
+    the first topology that works. Here the best-ranked ``1 - share`` of survivors
+    are chosen as usual; the remaining places go first to the best member of each
+    topology (the set of kinds in a design) not yet among them, then as usual.
+    """
+
+    def __init__(self, enc: Encoding, share: float = 0.25):
+        super().__init__()
+        self.enc, self.share = enc, share
+
+    def do(self, problem, pop, *args, n_survive=None, random_state=None, return_indices=False, **kwargs):
+        n_survive = min(n_survive or len(pop), len(pop))
+        n_head = n_survive - int(self.share * n_survive)
+        head = list(super().do(problem, pop, *args, n_survive=n_head, random_state=random_state,
+                               return_indices=True, **kwargs))
+        keys = topology_keys(self.enc, pop.get("X"))
+        seen = {keys[i] for i in head}
+        rest = np.setdiff1d(np.arange(len(pop)), head)
+        cv, err = pop.get("CV")[:, 0], pop.get("F")[:, 0]
+        extra = []
+        for i in rest[np.lexsort((err[rest], cv[rest]))]:
+            if len(extra) >= n_survive - n_head:
+                break
+            if keys[i] not in seen:
+                seen.add(keys[i])
+                extra.append(int(i))
+        fill: list[int] = []
+        left = n_survive - n_head - len(extra)
+        if left > 0:
+            others = np.setdiff1d(rest, extra)
+            picked = super().do(problem, pop[others], *args, n_survive=left, random_state=random_state,
+                                return_indices=True, **kwargs)
+            fill = [int(others[j]) for j in picked]
+        idx = head + extra + fill
+        out = pop[idx]
+        for ind in out:
+            if ind.get("crowding") is None:
+                ind.set("crowding", 0.0)
+        return idx if return_indices else out
+
+
+def topology_keys(enc: Encoding, X: np.ndarray) -> list[bytes]:
+    """One key per genome: its sorted kind genes (the multiset of kinds, slots in any order)."""
+    K = np.sort(np.round(X[:, ::enc.G]).astype(np.int16), axis=1)
+    return [r.tobytes() for r in K]
+
+
 # ---------------------------------------------------------------------- metrics
 
 def normalised_objectives(study: Study, F: np.ndarray) -> np.ndarray:
@@ -243,12 +296,17 @@ def run_search(study: Study, *, seed: int, population: int, generations: int,
     enc = Encoding(study)
     problem = _Problem(study, enc)
     algo = NSGA2(pop_size=population, sampling=_Sampling(enc, warm_start), crossover=_Crossover(enc),
-                 mutation=_Mutation(enc), repair=_Repair(enc), eliminate_duplicates=_HashDuplicates())
+                 mutation=_Mutation(enc), repair=_Repair(enc), eliminate_duplicates=_HashDuplicates(),
+                 survival=_TopologySurvival(enc))
     algo.setup(problem, termination=("n_gen", generations), seed=seed, verbose=False)
     history: list[dict] = []
     t0 = time.perf_counter()
+    inject_at = {generations // 3, (2 * generations) // 3} if polish and generations >= 12 else set()
+    polish_evals = 0
     while algo.has_next():
         algo.next()
+        if algo.n_gen in inject_at:
+            polish_evals += _inject_polished(study, enc, problem, algo)
         pop = algo.pop
         F, G = pop.get("F"), pop.get("G")
         ok = np.all(G <= 0, axis=1)
@@ -262,20 +320,68 @@ def run_search(study: Study, *, seed: int, population: int, generations: int,
             on_generation(Progress(rec["generation"], generations, rec["evaluations"], rec["feasible_share"],
                                    best, hv))
     t_search = time.perf_counter() - t0
-    X = algo.pop.get("X")
-    sc = score(study, enc.decode(X))
-    X, sc, feasible_found = _front(study, enc, X, sc, max_designs)
+    Xpop = algo.pop.get("X")
+    sc_pop = score(study, enc.decode(Xpop))
+    X, sc, feasible_found = _front(study, enc, Xpop, sc_pop, max_designs)
     out = SearchOutcome(X=X, scores=sc, feasible_found=feasible_found, history=history,
-                        evaluations=int(algo.evaluator.n_eval))
+                        evaluations=int(algo.evaluator.n_eval) + polish_evals)
     t1 = time.perf_counter()
-    if polish and feasible_found:
-        X2, info = polish_designs(study, enc, X, sc)
-        allX = np.vstack([X, X2]) if len(X2) else X
-        sc2 = score(study, enc.decode(allX))
-        out.X, out.scores, _ = _front(study, enc, allX, sc2, max_designs)
+    if polish:
+        # polish the front and the best member of every topology in the final population:
+        # a topology can be one polish away from the lowest error while still dominated
+        starts = np.unique(np.r_[_front_rows(X, Xpop), _best_per_topology(enc, Xpop, sc_pop)]).astype(np.intp)
+        X2, info = polish_designs(study, enc, Xpop[starts], _take(sc_pop, starts))
+        if len(X2):
+            allX = np.vstack([Xpop, X2])
+            out.X, out.scores, out.feasible_found = _front(study, enc, allX, score(study, enc.decode(allX)),
+                                                           max_designs)
         out.polish = info
+        out.evaluations += info["evaluations"]
     out.timings = {"search_s": t_search, "polish_s": time.perf_counter() - t1}
     return out
+
+
+def _inject_polished(study, enc, problem, algo) -> int:
+    """Memetic step: polish the best design of each topology and merge the results back.
+
+    Returns the number of model evaluations spent (each polish evaluates designs in batches).
+    """
+    from pymoo.core.evaluator import Evaluator
+    from pymoo.core.population import Population
+
+    X = algo.pop.get("X")
+    sc = score(study, enc.decode(X))
+    starts = _best_per_topology(enc, X, sc, per_topology=1)
+    X2, info = polish_designs(study, enc, X[starts], _take(sc, starts), max_nfev=25)
+    if len(X2):
+        new = Population.new("X", X2)
+        Evaluator().eval(problem, new)
+        merged = Population.merge(algo.pop, new)
+        algo.pop = algo.survival.do(problem, merged, n_survive=algo.pop_size, algorithm=algo,
+                                    random_state=algo.random_state)
+    return int(info.get("evaluations", 0))
+
+
+def _front_rows(X_front, Xpop):
+    """Rows of ``Xpop`` equal to rows of ``X_front``."""
+    keys = {r.tobytes() for r in X_front}
+    return np.array([i for i, r in enumerate(Xpop) if r.tobytes() in keys], dtype=np.intp)
+
+
+def _best_per_topology(enc, X, sc: Scores, per_topology: int = 3):
+    """For each topology present, the rows with the least violation, then the lowest error."""
+    keys = topology_keys(enc, X)
+    order = np.lexsort((sc.F[:, 0], sc.violation))
+    best: dict[bytes, list[int]] = {}
+    for i in order:
+        rows = best.setdefault(keys[i], [])
+        if len(rows) < per_topology:
+            rows.append(int(i))
+    return np.array(sorted(i for rows in best.values() for i in rows), dtype=np.intp)
+
+
+def _take(sc: Scores, rows) -> Scores:
+    return Scores(sc.F[rows], sc.G[rows], sc.response)
 
 
 def _front(study, enc, X, sc: Scores, max_designs: int):
@@ -313,11 +419,16 @@ def _thin(Z, idx, k):
 
 # ---------------------------------------------------------------------- polish
 
-def polish_designs(study: Study, enc: Encoding, X: np.ndarray, sc: Scores, *, max_nfev: int = 40):
+#: constraints are held this far (normalised) inside their bounds during the polish
+_POLISH_MARGIN = 0.01
+
+
+def polish_designs(study: Study, enc: Encoding, X: np.ndarray, sc: Scores, *, max_nfev: int = 60):
     """Refine offsets and continuous dimensions of each design by bounded least squares.
 
     Residuals are the weighted curve misfit (its norm is ``curve_error_pct``) plus
-    100 x each positive constraint value, so the step stays near the feasible set;
+    100 x each constraint value that comes within ``_POLISH_MARGIN`` of its bound, so the
+    optimum stays just inside the feasible set;
     a refinement is kept only when it is feasible and lowers the error. Kinds,
     materials, counts, whole-number and categorical parameters stay fixed. The
     Jacobian is taken by forward differences, all perturbed designs evaluated in
@@ -325,7 +436,8 @@ def polish_designs(study: Study, enc: Encoding, X: np.ndarray, sc: Scores, *, ma
     """
     t = study.target
     w = np.sqrt(t.weight / t.weight.sum()) * 100.0 / t.scale_N
-    kept, gains = [], []
+    kept, gains, repaired = [], [], 0
+    n_eval = [0]
     for i in range(len(X)):
         x0 = X[i]
         free = _free_genes(enc, x0)
@@ -338,9 +450,10 @@ def polish_designs(study: Study, enc: Encoding, X: np.ndarray, sc: Scores, *, ma
             return Z
 
         def resid_many(Z):
+            n_eval[0] += Z.shape[0]
             s = score(study, enc.decode(Z))
             r = (s.response.force_N - t.force_N) * w
-            return np.hstack([r, 100.0 * np.maximum(s.G, 0.0)])
+            return np.hstack([r, 100.0 * np.maximum(s.G + _POLISH_MARGIN, 0.0)])
 
         fun = lambda z: resid_many(full(z[None, :]))[0]  # noqa: E731
 
@@ -359,14 +472,23 @@ def polish_designs(study: Study, enc: Encoding, X: np.ndarray, sc: Scores, *, ma
             continue
         cand = full(res.x[None, :])
         s_new = score(study, enc.decode(cand))
-        if s_new.feasible[0] and s_new.F[0, 0] < sc.F[i, 0] * (1 - 1e-6):
+        was_ok = bool(np.all(sc.G[i] <= 0))
+        if s_new.feasible[0] and (not was_ok or s_new.F[0, 0] < sc.F[i, 0] * (1 - 1e-6)):
             kept.append(cand[0])
-            gains.append((sc.F[i, 0], s_new.F[0, 0]))
-    info = {"designs": int(len(X)), "improved": len(gains)}
+            if was_ok:
+                gains.append((sc.F[i, 0], s_new.F[0, 0]))
+            else:
+                repaired += 1
+    ok = np.all(sc.G <= 0, axis=1)
+    info = {"starts": int(len(X)), "improved": len(gains), "made_feasible": repaired, "evaluations": n_eval[0]}
     if gains:
         g = np.array(gains)
-        info.update(best_error_before_pct=float(sc.F[:, 0].min()), best_error_after_pct=float(min(g[:, 1].min(), sc.F[:, 0].min())),
-                    median_reduction_pct=float(np.median(100 * (1 - g[:, 1] / g[:, 0]))))
+        info["median_reduction_pct"] = float(np.median(100 * (1 - g[:, 1] / g[:, 0])))
+    if ok.any():
+        info["best_error_before_pct"] = float(sc.F[ok, 0].min())
+    if kept:
+        s_all = score(study, enc.decode(np.array(kept)))
+        info["best_error_after_pct"] = float(min(s_all.F[:, 0].min(), info.get("best_error_before_pct", np.inf)))
     return (np.array(kept) if kept else np.empty((0, X.shape[1]))), info
 
 

@@ -256,7 +256,7 @@ def _finish_run(res, folder):
         out.print(f"... {len(df) - 12} more in {folder / 'pareto.csv'}")
     if res.polish.get("improved"):
         p = res.polish
-        out.print(f"local polish improved {p['improved']} of {p['designs']} designs (median error reduction "
+        out.print(f"local polish improved {p['improved']} of {p['starts']} starting designs (median error reduction "
                   f"{p['median_reduction_pct']:.0f}%)")
     _caution()
     if not res.feasible:

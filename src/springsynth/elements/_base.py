@@ -132,9 +132,28 @@ class ElementKind:
         """
         raise NotImplementedError
 
-    def mass(self, p: Params, mat: MaterialArrays) -> np.ndarray:
-        """Mass of one copy, g, shape (n,)."""
+    def mass(self, p: Params, mat: MaterialArrays, u_max: np.ndarray) -> np.ndarray:
+        """Mass of one copy, g, shape (n,) (``u_max`` for kinds whose material in use grows with the stroke)."""
         raise NotImplementedError
+
+    # ---- search coordinates (optional override) ------------------------------------
+    @property
+    def search_params(self) -> tuple[Param, ...]:
+        """Coordinates the genetic search moves in (default: the parameters themselves).
+
+        A kind whose valid designs fill only a thin slice of its parameter box (a coil
+        spring must keep its index D/d within 4..12) may search in coordinates that
+        follow the design rules instead, mapped back by :meth:`from_search`.
+        """
+        return self.params
+
+    def from_search(self, q: Params) -> dict[str, np.ndarray]:
+        """Parameters from search coordinates ``q`` (names of :attr:`search_params`), each (n,)."""
+        return dict(q)
+
+    def to_search(self, p: Params) -> dict[str, np.ndarray]:
+        """Inverse of :meth:`from_search`."""
+        return dict(p)
 
     # ---- helpers --------------------------------------------------------------------
     def peak_stress_ratio(self, p: Params, mat: MaterialArrays, u: np.ndarray) -> np.ndarray:

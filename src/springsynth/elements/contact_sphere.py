@@ -54,7 +54,7 @@ class ContactSphere(ElementKind):
         d = 2.0 * p["radius_mm"]
         return d, d, d
 
-    def mass(self, p, mat):
+    def mass(self, p, mat, u_max=None):
         return (4.0 / 3.0) * math.pi * p["radius_mm"] ** 3 * mat.rho * DENSITY_TO_G_PER_MM3
 
 

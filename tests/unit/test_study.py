@@ -1,0 +1,55 @@
+"""Study files: defaults, relative paths, overrides, and errors with suggestions."""
+
+import pytest
+
+from springsynth._errors import InputError
+from springsynth._study import apply_overrides, load_study
+
+
+def test_defaults_and_relative_target(linear_study):
+    st = load_study(linear_study)
+    assert st.target_path.parent == linear_study.parent
+    assert st.limits.stress_ratio == 0.8
+    assert [k.name for k in st.search.kinds] == ["blade_guided", "helical_compression"]
+    assert len(st.hash()) == 16
+
+
+def test_overrides_apply_and_are_validated(linear_study):
+    st = load_study(linear_study, overrides=["limits.stress_ratio=0.6", "envelope.length_mm=40"])
+    assert st.limits.stress_ratio == 0.6 and st.envelope.length_mm == 40
+    with pytest.raises(InputError, match="did you mean 'stress_ratio'"):
+        load_study(linear_study, overrides=["limits.stress_ration=0.6"])
+    with pytest.raises(InputError, match="must be > 0"):
+        load_study(linear_study, overrides=["envelope.width_mm=-3"])
+
+
+def test_override_parser_keeps_strings():
+    assert apply_overrides({}, ["name=abc"])["name"] == "abc"
+
+
+@pytest.mark.parametrize("old, new, needle", [
+    ("[limits]", "[limit]", "did you mean 'limits'"),
+    ("stress_ratio = 0.8", "stress_ratoi = 0.8", "did you mean 'stress_ratio'"),
+    ('file = "lin.csv"', 'file = "missing.csv"', "not found"),
+    ("length_mm = 60", "length_mm = 0", "must be > 0"),
+    ("length_mm = 60", 'length_mm = "long"', "must be a number"),
+    ('"music_wire"]', '"music_wier"]', "did you mean 'music_wire'"),
+    ('elements = ["blade_guided"', 'elements = ["blade_gided"', "did you mean 'blade_guided'"),
+    ("population = 60", "population = 2.5", "whole number"),
+    ("seed = 3", "seed = true", "must be a whole number"),
+    ("[search]", "[search]\npolish = 3", "true or false"),
+])
+def test_bad_studies(linear_study, old, new, needle):
+    text = linear_study.read_text()
+    assert old in text
+    linear_study.write_text(text.replace(old, new))
+    with pytest.raises(InputError) as e:
+        load_study(linear_study)
+    assert needle in str(e.value) and "study.toml" in str(e.value)
+
+
+def test_kind_without_suitable_material(linear_study):
+    text = linear_study.read_text().replace('materials = ["stainless_17_7ph", "music_wire"]', 'materials = ["music_wire"]')
+    linear_study.write_text(text)
+    with pytest.raises(InputError, match="no listed material suits blade_guided"):
+        load_study(linear_study)
