@@ -278,7 +278,8 @@ def evaluate_population(slots: Slots, x_mm: np.ndarray, *, x_max_mm: float | Non
                 continue
             kind = slots.kinds[ki]
             rows = np.flatnonzero(kcol == ki)
-            p = {q.name: slots.params[rows, j, c] for c, q in enumerate(kind.params)}
+            prow = slots.params[rows, j]
+            p = {q.name: prow[:, c] for c, q in enumerate(kind.params)}
             mat = mats_all.subset(slots.material[rows, j])
             off = slots.offset_mm[rows, j]
             cnt = slots.count[rows, j]
@@ -286,8 +287,10 @@ def evaluate_population(slots: Slots, x_mm: np.ndarray, *, x_max_mm: float | Non
 
             with np.errstate(all="ignore"):
                 u = x[None, :] - off[:, None]
+                engaged = u > 0.0
                 f = kind.force(p, mat, np.maximum(u, 0.0))
-                f = np.where(u > 0.0, f, 0.0) * cnt[:, None]
+                f *= engaged
+                f *= cnt[:, None]
                 if kind.monotonic_stress:
                     peak = kind.peak_stress_ratio(p, mat, u_max[:, None])
                 else:
@@ -296,20 +299,22 @@ def evaluate_population(slots: Slots, x_mm: np.ndarray, *, x_max_mm: float | Non
                 margins = kind.validity_margins(p, mat, u_max)
                 a, c1, c2 = (np.broadcast_to(v, rows.shape) for v in kind.box(p, u_max))
                 ms = kind.mass(p, mat, u_max) * cnt
+                # one reduction finds any NaN or inf in a row (a sum with one is not finite)
+                ok = np.isfinite(f.sum(axis=1) + peak + a + c1 + c2 + ms)
 
-            ok = np.all(np.isfinite(f), axis=1) & np.isfinite(peak) & np.isfinite(a) & np.isfinite(c1) \
-                & np.isfinite(c2) & np.isfinite(ms)
             for name, g in margins.items():
                 ok &= np.isfinite(g)
                 cur = validity.setdefault(name, np.full(n, -np.inf))
                 cur[rows] = np.maximum(cur[rows], np.where(np.isfinite(g), g, np.inf))
+            if not ok.all():
+                f[~ok] = 0.0
             finite[rows] &= ok
-            force[rows] += np.where(np.isfinite(f), f, 0.0)
+            force[rows] += f
             if detail:
                 elem_force[rows, j] = f
                 with np.errstate(all="ignore"):
                     s = kind.stress(p, mat, np.maximum(u, 0.0)) / kind.allowable(p, mat)[:, None]
-                sr_curve[rows] = np.maximum(sr_curve[rows], np.where(u > 0.0, s, 0.0))
+                sr_curve[rows] = np.maximum(sr_curve[rows], np.where(engaged, s, 0.0))
             sr[rows] = np.maximum(sr[rows], peak)
             along[rows] = np.maximum(along[rows], a)
             lo, hi = np.minimum(c1, c2), np.maximum(c1, c2)

@@ -15,7 +15,9 @@ gene  type       meaning
 
 Objectives (all minimised): ``curve_error_pct``, ``stress_ratio``, ``size_mm3``.
 Constraints (feasible when all <= 0, each normalised demand/allowable - 1):
-``envelope_length``, ``envelope_cross``, ``stress``, ``validity``, ``min_thickness``, ``mass``.
+``curve_error`` (a design that misses the curve by more than ``limits.max_error_pct`` is of
+no use, however small), ``envelope_length``, ``envelope_cross``, ``stress``, ``validity``,
+``min_thickness``, ``mass``.
 """
 
 from __future__ import annotations
@@ -31,7 +33,7 @@ from ._study import Study
 __all__ = ["Encoding", "CONSTRAINTS", "Scores", "score", "OFFSET_LO", "OFFSET_HI"]
 
 OFFSET_LO, OFFSET_HI = -3.0, 0.9
-CONSTRAINTS = ("envelope_length", "envelope_cross", "stress", "validity", "min_thickness", "mass")
+CONSTRAINTS = ("curve_error", "envelope_length", "envelope_cross", "stress", "validity", "min_thickness", "mass")
 #: stand-in for a non-finite objective or constraint value
 BIG = 1e6
 
@@ -198,8 +200,9 @@ def score(study: Study, slots: Slots) -> Scores:
         g_thick = lim.min_thickness_mm / r.min_thickness_mm - 1.0 if lim.min_thickness_mm > 0 \
             else np.full(slots.n, -1.0)
         g_mass = r.mass_g / lim.max_mass_g - 1.0 if math.isfinite(lim.max_mass_g) else np.full(slots.n, -1.0)
+        g_err = err / lim.max_error_pct - 1.0
     F = np.stack([err, r.stress_ratio, r.size_mm3], axis=1)
-    G = np.stack([g_len, g_cross, g_stress, g_valid, g_thick, g_mass], axis=1)
+    G = np.stack([g_err, g_len, g_cross, g_stress, g_valid, g_thick, g_mass], axis=1)
     G = np.maximum(G, -1.0)  # only the sign matters below zero; keeps -inf out of pymoo
     bad = ~r.finite[:, None] | ~np.isfinite(G)
     G = np.where(bad, BIG, np.minimum(G, BIG))

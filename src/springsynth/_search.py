@@ -312,7 +312,7 @@ def run_search(study: Study, *, seed: int, population: int, generations: int,
         ok = np.all(G <= 0, axis=1)
         best = float(F[ok, 0].min()) if ok.any() else math.nan
         hv = hypervolume(study, F, G)
-        rec = dict(generation=int(algo.n_gen), evaluations=int(algo.evaluator.n_eval),
+        rec = dict(generation=int(algo.n_gen) - 1, evaluations=int(algo.evaluator.n_eval),
                    feasible_share=float(ok.mean()), best_error_pct=best, hypervolume=hv,
                    time_s=time.perf_counter() - t0)
         history.append(rec)
@@ -329,7 +329,9 @@ def run_search(study: Study, *, seed: int, population: int, generations: int,
     if polish:
         # polish the front and the best member of every topology in the final population:
         # a topology can be one polish away from the lowest error while still dominated
-        starts = np.unique(np.r_[_front_rows(X, Xpop), _best_per_topology(enc, Xpop, sc_pop)]).astype(np.intp)
+        front_rows = _front_rows(X, Xpop)
+        front_rows = front_rows[np.argsort(sc_pop.F[front_rows, 0], kind="stable")[:12]]
+        starts = np.unique(np.r_[front_rows, _best_per_topology(enc, Xpop, sc_pop, per_topology=2)]).astype(np.intp)
         X2, info = polish_designs(study, enc, Xpop[starts], _take(sc_pop, starts))
         if len(X2):
             allX = np.vstack([Xpop, X2])

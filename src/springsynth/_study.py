@@ -22,7 +22,7 @@ from .elements import ElementKind, get_kind, registry
 __all__ = ["Study", "Limits", "SearchOptions", "load_study", "study_from_mapping", "apply_overrides", "DEFAULTS"]
 
 DEFAULTS = {
-    "limits": {"stress_ratio": 0.8, "min_thickness_mm": 0.05},
+    "limits": {"stress_ratio": 0.8, "min_thickness_mm": 0.05, "max_error_pct": 20.0},
     "search": {"max_elements": 3, "max_count": 4, "population": 120, "generations": 80, "seed": 1,
                "polish": True, "verify_top": 5, "robust": False},
 }
@@ -30,7 +30,7 @@ DEFAULTS = {
 _SCHEMA: dict[str, set[str] | None] = {
     "name": None, "description": None, "target": {"file"},
     "envelope": {"length_mm", "width_mm", "height_mm"},
-    "limits": {"stress_ratio", "min_thickness_mm", "max_mass_g"},
+    "limits": {"stress_ratio", "min_thickness_mm", "max_mass_g", "max_error_pct"},
     "search": {"elements", "materials", "max_elements", "max_count", "population", "generations", "seed",
                "polish", "verify_top", "robust"},
     "materials": None,
@@ -42,6 +42,8 @@ class Limits:
     stress_ratio: float = 0.8
     min_thickness_mm: float = 0.05
     max_mass_g: float = math.inf
+    #: designs whose curve error exceeds this are not worth showing (a constraint)
+    max_error_pct: float = 20.0
 
 
 @dataclass(frozen=True)
@@ -128,6 +130,7 @@ def study_from_mapping(doc: Mapping[str, Any], *, where: str, base_dir: Path) ->
         min_thickness_mm=_num(lim["min_thickness_mm"], f"{where} [limits].min_thickness_mm", lo=0.0, strict=False),
         max_mass_g=_num(lim.get("max_mass_g", math.inf), f"{where} [limits].max_mass_g", lo=0.0)
         if "max_mass_g" in lim else math.inf,
+        max_error_pct=_num(lim["max_error_pct"], f"{where} [limits].max_error_pct", lo=0.0),
     )
 
     s = {**DEFAULTS["search"], **doc.get("search", {})}

@@ -18,6 +18,7 @@ from ._study import Study
 __all__ = ["synthesize", "Synthesis", "design_table", "curve_grid"]
 
 _CONSTRAINT_WORDS = {
+    "curve_error": "curve error exceeds limits.max_error_pct",
     "envelope_length": "length along the stroke exceeds the envelope",
     "envelope_cross": "cross-section exceeds the envelope",
     "stress": "stress ratio exceeds limits.stress_ratio",
@@ -39,7 +40,7 @@ class Synthesis:
         table order; ``designs[i].name`` is the design id.
     objectives : ndarray, shape (n, 3)
         curve_error_pct, stress_ratio, size_mm3.
-    constraints : ndarray, shape (n, 6)
+    constraints : ndarray, shape (n, 7)
         Normalised constraint values (<= 0 satisfied), columns ``CONSTRAINTS``.
     mass_g : ndarray, shape (n,)
     feasible : bool

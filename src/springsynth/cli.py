@@ -12,14 +12,15 @@ from typing import List, Optional
 
 import typer
 from rich.console import Console
+from rich.markup import escape
 from rich.table import Table
 
 from ._errors import InputError
 
 app = typer.Typer(add_completion=False, no_args_is_help=True, pretty_exceptions_enable=False,
                   help="springsynth: from a target force-displacement curve to Pareto-optimal springs and flexures.")
-out = Console(highlight=False)
-err = Console(stderr=True, highlight=False)
+out = Console(highlight=False, soft_wrap=True)
+err = Console(stderr=True, highlight=False, soft_wrap=True)
 
 
 def _guard(fn):
@@ -30,7 +31,7 @@ def _guard(fn):
         try:
             return fn(*a, **k)
         except InputError as e:
-            err.print(f"[bold red]error:[/] {e}", soft_wrap=True)
+            err.print(f"[bold red]error:[/] {escape(str(e))}")
             raise typer.Exit(2)
         except KeyboardInterrupt:
             err.print("interrupted")
@@ -86,7 +87,7 @@ def evaluate(
         raise InputError("say where to evaluate: --to X (mm, with --points N) or --at TARGET.csv", where="evaluate")
     r = evaluate_design(d, x)
     frame = _evaluation_frame(d, r)
-    tab = Table(title=f"{d.name}: {d.topology()}", title_justify="left")
+    tab = Table(title=escape(f"{d.name}: {d.topology()}"), title_justify="left")
     for c in frame.columns:
         tab.add_column(c, justify="right")
     step = max(1, len(frame) // 12)
@@ -113,7 +114,7 @@ def evaluate(
         out.print(f"wrote {plot}")
     _caution()
     if outside:
-        msg = ", ".join(f"{k} +{100 * v:.0f}%" for k, v in outside.items())
+        msg = escape(", ".join(f"{k} +{100 * v:.0f}%" for k, v in outside.items()))
         err.print(f"[bold yellow]warning:[/] outside the models' valid range ({msg}); these forces are not trustworthy")
 
 
@@ -215,7 +216,7 @@ def check(file: Path = typer.Argument(..., help="a target CSV, a study TOML or a
     doc = read_toml(file)
     if "element" in doc:
         d = load_design(file)
-        out.print(f"{file}: design with {len(d.elements)} element(s): {d.topology()}")
+        out.print(escape(f"{file}: design with {len(d.elements)} element(s): {d.topology()}"))
         return
     st = load_study(file)
     out.print(f"{file}: study {st.name!r}: target {st.target_path} ({st.target.x_mm.size} points, stroke "
@@ -250,7 +251,7 @@ def _finish_run(res, folder):
         t.add_column(c, overflow="fold")
     for _, r in df.head(12).iterrows():
         t.add_row(r.design_id, f"{r.curve_error_pct:.3g}", f"{r.stress_ratio:.3g}", f"{r.size_mm3:.4g}",
-                  f"{r.mass_g:.3g}", r.topology)
+                  f"{r.mass_g:.3g}", escape(r.topology))
     out.print(t)
     if len(df) > 12:
         out.print(f"... {len(df) - 12} more in {folder / 'pareto.csv'}")
@@ -262,7 +263,7 @@ def _finish_run(res, folder):
     if not res.feasible:
         err.print("[bold red]no feasible design found.[/] The closest designs and what they violate:")
         for i, d in enumerate(res.designs):
-            err.print(f"  {d.name}: {res.binding(i)}", soft_wrap=True)
+            err.print(escape(f"  {d.name}: {res.binding(i)}"))
         err.print("They are written, marked infeasible. Loosen the binding limits or widen the envelope.")
         raise typer.Exit(1)
 

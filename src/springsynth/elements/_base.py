@@ -104,7 +104,10 @@ class ElementKind:
 
     # ---- kernels (override) ---------------------------------------------------------
     def force(self, p: Params, mat: MaterialArrays, u: np.ndarray) -> np.ndarray:
-        """Force of one copy, N, shape (n, m), for strokes ``u`` >= 0 of shape (n, m)."""
+        """Force of one copy, N, shape (n, m), for strokes ``u`` >= 0 of shape (n, m).
+
+        Must return a new, writable array (the assembly scales it in place).
+        """
         raise NotImplementedError
 
     def stress(self, p: Params, mat: MaterialArrays, u: np.ndarray) -> np.ndarray:

@@ -1,0 +1,78 @@
+"""Throughput of the analytic core: designs evaluated per second (a script, not a test).
+
+A population of 3-element designs of mixed kinds (every registered kind, random
+materials that suit it, random dimensions inside the bounds, counts, gaps and
+preloads) is evaluated at 64 stroke points through the same function the search
+uses. Prints the median over repeats of designs/s, and the ratio to a plain numpy
+cubic ``a x + b x^3`` evaluated on an array of the same size (n x 3 x 64).
+
+Run:  python tests/benchmarks/bench_core.py [--n 20000] [--repeats 7]
+"""
+
+from __future__ import annotations
+
+import argparse
+import statistics
+import time
+
+import numpy as np
+
+from springsynth._assembly import Slots, evaluate_population
+from springsynth._materials import catalogue
+from springsynth.elements import registry
+
+
+def random_population(n: int, slots: int = 3, seed: int = 0, kinds=None) -> Slots:
+    rng = np.random.default_rng(seed)
+    kinds = tuple(registry().values()) if kinds is None else tuple(registry()[k] for k in kinds)
+    mats = tuple(catalogue().values())
+    P = max(len(k.params) for k in kinds)
+    kind = rng.integers(0, len(kinds), (n, slots))
+    mat = np.zeros((n, slots), dtype=np.intp)
+    params = np.zeros((n, slots, P))
+    for ki, k in enumerate(kinds):
+        suit = np.array([i for i, m in enumerate(mats) if m.suits(k.forms)])
+        rows = kind == ki
+        mat[rows] = rng.choice(suit, rows.sum())
+        for j, q in enumerate(k.params):
+            z = rng.random(rows.sum())
+            if q.choices:
+                v = np.floor(z * len(q.choices))
+            elif q.log and q.lo > 0:
+                v = q.lo * (q.hi / q.lo) ** z
+            else:
+                v = q.lo + z * (q.hi - q.lo)
+            params[rows, j] = np.round(v) if q.integer else v
+    count = rng.integers(1, 4, (n, slots)).astype(float)
+    offset = rng.uniform(-2.0, 2.0, (n, slots))
+    return Slots(kind, mat, count, offset, params, kinds, mats)
+
+
+def main() -> None:
+    ap = argparse.ArgumentParser()
+    ap.add_argument("--n", type=int, default=20000)
+    ap.add_argument("--repeats", type=int, default=7)
+    ap.add_argument("--kinds", nargs="*", help="restrict to these kinds (default: all registered)")
+    a = ap.parse_args()
+    pop = random_population(a.n, kinds=a.kinds)
+    x = np.linspace(0.0, 5.0, 64)
+    evaluate_population(pop, x)  # warm-up: builds cached tables
+    t_core, t_cubic = [], []
+    arr = np.random.default_rng(1).random((a.n * 3, 64))
+    for _ in range(a.repeats):
+        t0 = time.perf_counter()
+        evaluate_population(pop, x)
+        t_core.append(time.perf_counter() - t0)
+        t0 = time.perf_counter()
+        _ = 1.7 * arr + 0.3 * arr**3
+        t_cubic.append(time.perf_counter() - t0)
+    med, medc = statistics.median(t_core), statistics.median(t_cubic)
+    print(f"kinds: {', '.join(k.name for k in pop.kinds)}")
+    print(f"population {a.n} x 3 elements x 64 points, {a.repeats} repeats")
+    print(f"median {a.n / med:,.0f} designs/s  ({1e6 * med / a.n:.2f} us per design)")
+    print(f"plain numpy cubic on the same array size: median {a.n / medc:,.0f} designs/s")
+    print(f"ratio core / cubic time: {med / medc:.1f}")
+
+
+if __name__ == "__main__":
+    main()
