@@ -20,7 +20,10 @@ from ._fileio import new_folder, write_bytes_atomic, write_text_atomic
 from ._study import Study, load_study
 from ._synthesis import Synthesis, curve_grid
 
-__all__ = ["write_run", "read_run", "RunFolder", "CAUTION"]
+__all__ = ["write_run", "read_run", "RunFolder", "CAUTION", "CHECKPOINT"]
+
+#: file holding the search state of an interrupted run (``springsynth run --resume``)
+CHECKPOINT = "checkpoint.pkl"
 
 CAUTION = (
     "Results are estimates from idealised analytic models. Springs store energy and flexures fail in "
@@ -59,7 +62,7 @@ def curves_frame(study: Study, designs: tuple[Design, ...]) -> pd.DataFrame:
 
 
 def write_run(res: Synthesis, out: Path, *, parent: str | None = None, overrides: list[str] = (),
-              plots: bool = True, partial: bool = False) -> Path:
+              plots: bool = True, resumed_from: str | None = None) -> Path:
     """Write the run folder; returns its path (a new folder, never an existing one)."""
     st = res.study
     folder = new_folder(out)
@@ -77,16 +80,18 @@ def write_run(res: Synthesis, out: Path, *, parent: str | None = None, overrides
     meta = {
         "study": st.name, "study_hash": st.hash(), "seed": res.seed,
         "budget": {"population": res.population, "generations": res.generations, "evaluations": res.evaluations},
-        "feasible": res.feasible, "partial": partial, "designs": len(res.designs),
-        "parent": parent, "overrides": list(overrides),
+        "feasible": res.feasible, "partial": res.partial, "designs": len(res.designs),
+        "parent": parent, "overrides": list(overrides), "resumed_from": resumed_from,
         "timings_s": res.timings, "polish": res.polish, "versions": _versions(),
         "history": res.history, "caution": CAUTION,
     }
+    if res.checkpoint is not None:
+        write_bytes_atomic(folder / CHECKPOINT, res.checkpoint)
     write_text_atomic(folder / "run.json", json.dumps(_plain(meta), indent=1) + "\n")
-    if plots:
-        from ._plots import write_run_plots
+    if plots:  # figures and report.html from the folder alone, exactly as `springsynth report` does
+        from ._report import build_report
 
-        write_run_plots(folder, res)
+        build_report(folder, study=st)
     return folder
 
 
@@ -109,6 +114,16 @@ class RunFolder:
     meta: dict
     table: pd.DataFrame
     designs: tuple[Design, ...]
+
+    @property
+    def partial(self) -> bool:
+        return bool(self.meta.get("partial"))
+
+    def checkpoint(self) -> bytes:
+        p = self.path / CHECKPOINT
+        if not self.partial or not p.exists():
+            raise InputError("has no checkpoint to resume: it is not an interrupted run", where=str(self.path))
+        return p.read_bytes()
 
     def study(self, extra_overrides: list[str] = ()) -> Study:
         """The run's study (its own copy and target), with its overrides and any new ones applied."""

@@ -8,6 +8,7 @@ matrix, hash-based duplicate elimination) and to scipy's least squares.
 from __future__ import annotations
 
 import math
+import pickle
 import time
 from dataclasses import dataclass, field
 from typing import Callable
@@ -52,6 +53,10 @@ class SearchOutcome:
     evaluations: int = 0
     polish: dict = field(default_factory=dict)
     timings: dict = field(default_factory=dict)
+    partial: bool = False          # stopped early on request; ``checkpoint`` resumes it
+    checkpoint: bytes | None = None
+    study: Study | None = None     # the study searched (from the checkpoint when resumed)
+    budget: tuple[int, int, int] = (0, 0, 0)  # seed, population, generations
 
 
 # ---------------------------------------------------------------------- operators
@@ -291,18 +296,36 @@ def hypervolume(study: Study, F: np.ndarray, G: np.ndarray) -> float:
 def run_search(study: Study, *, seed: int, population: int, generations: int,
                warm_start: np.ndarray | None = None,
                on_generation: Callable[[Progress], None] | None = None,
-               polish: bool = True, max_designs: int = 40) -> SearchOutcome:
-    """NSGA-II over the study's genome, then the local polish of the Pareto designs."""
-    enc = Encoding(study)
-    problem = _Problem(study, enc)
-    algo = NSGA2(pop_size=population, sampling=_Sampling(enc, warm_start), crossover=_Crossover(enc),
-                 mutation=_Mutation(enc), repair=_Repair(enc), eliminate_duplicates=_HashDuplicates(),
-                 survival=_TopologySurvival(enc))
-    algo.setup(problem, termination=("n_gen", generations), seed=seed, verbose=False)
-    history: list[dict] = []
-    t0 = time.perf_counter()
-    inject_at = {generations // 3, (2 * generations) // 3} if polish and generations >= 12 else set()
-    polish_evals = 0
+               polish: bool = True, max_designs: int = 40,
+               should_stop: Callable[[], bool] | None = None,
+               resume: bytes | None = None) -> SearchOutcome:
+    """NSGA-II over the study's genome, then the local polish of the Pareto designs.
+
+    ``should_stop`` is asked after every generation; when it answers True the search
+    stops there and returns the current front unpolished, marked partial, with a
+    checkpoint (``SearchOutcome.checkpoint``). Passing that checkpoint back as
+    ``resume`` continues exactly where it stopped: the finished result is identical
+    to an uninterrupted run with the same seed.
+    """
+    if resume is not None:
+        state = pickle.loads(resume)
+        algo, history, polish_evals, inject_at = state["algo"], state["history"], state["polish_evals"], state["inject_at"]
+        problem = algo.problem
+        study, enc = problem.study, problem.enc
+        generations = state["generations"]
+        t_offset = history[-1]["time_s"] if history else 0.0
+    else:
+        enc = Encoding(study)
+        problem = _Problem(study, enc)
+        algo = NSGA2(pop_size=population, sampling=_Sampling(enc, warm_start), crossover=_Crossover(enc),
+                     mutation=_Mutation(enc), repair=_Repair(enc), eliminate_duplicates=_HashDuplicates(),
+                     survival=_TopologySurvival(enc))
+        algo.setup(problem, termination=("n_gen", generations), seed=seed, verbose=False)
+        history = []
+        polish_evals = 0
+        inject_at = {generations // 3, (2 * generations) // 3} if polish and generations >= 12 else set()
+        t_offset = 0.0
+    t0 = time.perf_counter() - t_offset
     while algo.has_next():
         algo.next()
         if algo.n_gen in inject_at:
@@ -312,19 +335,31 @@ def run_search(study: Study, *, seed: int, population: int, generations: int,
         ok = np.all(G <= 0, axis=1)
         best = float(F[ok, 0].min()) if ok.any() else math.nan
         hv = hypervolume(study, F, G)
-        rec = dict(generation=int(algo.n_gen) - 1, evaluations=int(algo.evaluator.n_eval),
+        rec = dict(generation=int(algo.n_gen) - 1, evaluations=int(algo.evaluator.n_eval) + polish_evals,
                    feasible_share=float(ok.mean()), best_error_pct=best, hypervolume=hv,
                    time_s=time.perf_counter() - t0)
         history.append(rec)
         if on_generation is not None:
             on_generation(Progress(rec["generation"], generations, rec["evaluations"], rec["feasible_share"],
                                    best, hv))
+        if should_stop is not None and algo.has_next() and should_stop():
+            checkpoint = pickle.dumps({"algo": algo, "history": history, "polish_evals": polish_evals,
+                                       "inject_at": inject_at, "generations": generations},
+                                      protocol=pickle.HIGHEST_PROTOCOL)
+            Xpop = algo.pop.get("X")
+            X, sc, feasible_found = _front(study, enc, Xpop, score(study, enc.decode(Xpop)), max_designs)
+            return SearchOutcome(X=X, scores=sc, feasible_found=feasible_found, history=history,
+                                 evaluations=int(algo.evaluator.n_eval) + polish_evals,
+                                 timings={"search_s": time.perf_counter() - t0}, partial=True,
+                                 checkpoint=checkpoint, study=study,
+                                 budget=(int(algo.seed), int(algo.pop_size), generations))
     t_search = time.perf_counter() - t0
     Xpop = algo.pop.get("X")
     sc_pop = score(study, enc.decode(Xpop))
     X, sc, feasible_found = _front(study, enc, Xpop, sc_pop, max_designs)
     out = SearchOutcome(X=X, scores=sc, feasible_found=feasible_found, history=history,
-                        evaluations=int(algo.evaluator.n_eval) + polish_evals)
+                        evaluations=int(algo.evaluator.n_eval) + polish_evals, study=study,
+                        budget=(int(algo.seed), int(algo.pop_size), generations))
     t1 = time.perf_counter()
     if polish:
         # polish the front and the best member of every topology in the final population:

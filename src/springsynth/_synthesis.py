@@ -63,6 +63,8 @@ class Synthesis:
     polish: dict = field(default_factory=dict)
     timings: dict = field(default_factory=dict)
     validity: dict = field(default_factory=dict)
+    partial: bool = False
+    checkpoint: bytes | None = None
 
     def to_frame(self) -> pd.DataFrame:
         return design_table(self)
@@ -114,7 +116,8 @@ def design_table(res: Synthesis) -> pd.DataFrame:
 
 def synthesize(study: Study, *, seed: int | None = None, population: int | None = None,
                generations: int | None = None, warm_start: Sequence[Design] = (),
-               on_generation: Callable[[Progress], None] | None = None) -> Synthesis:
+               on_generation: Callable[[Progress], None] | None = None,
+               should_stop: Callable[[], bool] | None = None, resume: bytes | None = None) -> Synthesis:
     """Search the study's design space; return the Pareto set.
 
     Parameters
@@ -127,6 +130,12 @@ def synthesize(study: Study, *, seed: int | None = None, population: int | None 
         Designs placed in the first population (e.g. an earlier run's Pareto set).
     on_generation : callable, optional
         Called with a :class:`Progress` after every generation.
+    should_stop : callable, optional
+        Asked after every generation; True stops the search there and returns the
+        results so far with ``partial=True`` and a ``checkpoint``.
+    resume : bytes, optional
+        A checkpoint from an interrupted search: continue it (the study, seed and budget
+        stored in it are used); the result equals an uninterrupted run's.
     """
     s = study.search
     seed = s.seed if seed is None else int(seed)
@@ -135,7 +144,8 @@ def synthesize(study: Study, *, seed: int | None = None, population: int | None 
     enc = Encoding(study)
     X0 = enc.encode(list(warm_start)) if warm_start else None
     out = run_search(study, seed=seed, population=population, generations=generations, warm_start=X0,
-                     on_generation=on_generation, polish=s.polish)
+                     on_generation=on_generation, polish=s.polish, should_stop=should_stop, resume=resume)
+    seed, population, generations = out.budget
     slots = enc.decode(out.X)
     designs = tuple(slots.design(i, name=f"D{i + 1:02d}") for i in range(slots.n))
     sc = out.scores
@@ -144,4 +154,6 @@ def synthesize(study: Study, *, seed: int | None = None, population: int | None 
         feasible=out.feasible_found, seed=seed, population=population, generations=generations,
         evaluations=out.evaluations, history=out.history, polish=out.polish, timings=out.timings,
         validity={k: np.asarray(v) for k, v in sc.response.validity.items()},
+        partial=out.partial, checkpoint=out.checkpoint,
     )
+

@@ -275,22 +275,77 @@ def _default_out(name: str) -> Path:
 @app.command()
 @_guard
 def run(
-    study: Path = typer.Argument(..., help="study TOML file"),
+    study: Optional[Path] = typer.Argument(None, help="study TOML file"),
     out_dir: Optional[Path] = typer.Option(None, "--out", help="run folder to create (default runs/<name>-<time>)"),
     population: Optional[int] = typer.Option(None, "--population", min=4),
     generations: Optional[int] = typer.Option(None, "--generations", min=1),
     seed: Optional[int] = typer.Option(None, "--seed", min=0),
+    resume: Optional[Path] = typer.Option(None, "--resume", help="continue an interrupted run folder"),
 ):
-    """Search for Pareto-optimal designs that follow the study's target curve."""
-    from ._runio import write_run
+    """Search for Pareto-optimal designs that follow the study's target curve.
+
+    Ctrl-C (or SIGTERM) finishes the current generation, saves the results so far
+    (marked partial) with a checkpoint, and exits 130; `--resume RUN` continues it.
+    """
+    from ._runio import read_run, write_run
     from ._study import load_study
 
-    st = load_study(study)
+    if (study is None) == (resume is None):
+        raise InputError("give a STUDY file, or --resume RUN to continue an interrupted run", where="run")
+    parent = resumed = None
+    overrides: list[str] = []
+    checkpoint = None
+    if resume is not None:
+        old = read_run(resume)
+        checkpoint = old.checkpoint()
+        st = old.study()
+        parent, overrides, resumed = old.meta.get("parent"), list(old.meta.get("overrides", [])), str(resume)
+    else:
+        st = load_study(study)
     for n in st.target.notices:
         err.print(f"notice: {n}")
-    res = _progress_runner(st, population=population, generations=generations, seed=seed)
-    folder = write_run(res, out_dir or _default_out(st.name))
+    with _stop_on_signal() as stop:
+        res = _progress_runner(st, population=population, generations=generations, seed=seed,
+                               should_stop=stop, resume=checkpoint)
+    folder = write_run(res, out_dir or _default_out(st.name), parent=parent, overrides=overrides,
+                       resumed_from=resumed)
+    if res.partial:
+        err.print(f"[bold yellow]interrupted[/] after generation {res.history[-1]['generation']} of "
+                  f"{res.generations}: results so far (partial) in {folder}; continue with "
+                  f"`springsynth run --resume {folder}`")
+        raise typer.Exit(130)
     _finish_run(res, folder)
+
+
+class _stop_on_signal:
+    """Context manager: the first SIGINT/SIGTERM asks the search to stop after the current
+    generation; a second SIGINT interrupts at once."""
+
+    def __enter__(self):
+        import signal
+
+        self.flag = False
+        self.old = {}
+
+        def handler(signum, frame):
+            if self.flag and signum == signal.SIGINT:
+                raise KeyboardInterrupt
+            self.flag = True
+            err.print("stopping after this generation (press Ctrl-C again to abort without saving)")
+
+        for sig in (signal.SIGINT, signal.SIGTERM):
+            try:
+                self.old[sig] = signal.signal(sig, handler)
+            except ValueError:  # not the main thread (e.g. some test runners)
+                pass
+        return lambda: self.flag
+
+    def __exit__(self, *exc):
+        import signal
+
+        for sig, h in self.old.items():
+            signal.signal(sig, h)
+        return False
 
 
 @app.command()
@@ -313,6 +368,20 @@ def rerun(
     overrides = list(parent.meta.get("overrides", [])) + list(set_)
     folder = write_run(res, out_dir or _default_out(st.name), parent=str(run_dir), overrides=overrides)
     _finish_run(res, folder)
+
+
+# ------------------------------------------------------------------------- report
+
+@app.command()
+@_guard
+def report(run_dir: Path = typer.Argument(..., help="a run folder written by `springsynth run`")):
+    """Rebuild a run folder's figures and self-contained report.html from its files (no new search)."""
+    from ._report import build_report
+    from ._runio import read_run
+
+    path = build_report(read_run(run_dir))
+    out.print(f"wrote {path}")
+    _caution()
 
 
 def main():  # console-script entry point
