@@ -29,6 +29,12 @@ from .elements import ElementKind, get_kind, registry
 
 __all__ = ["Element", "Design", "Slots", "Response", "Envelope", "evaluate_population", "evaluate_design", "envelope_margins"]
 
+#: offsets smaller than this are left out of the readable topology summary, mm
+_SHOWN_OFFSET_MM = 0.001
+#: parameters more than this factor beyond their bounds are outside the numerical domain
+_DOMAIN = 1e6
+#: largest element stroke (and stroke minus offset) evaluated, mm; beyond it a design is not finite
+_MAX_STROKE_MM = 1e9
 #: stroke points used for the peak stress of kinds whose stress is not monotonic
 _STRESS_GRID = 33
 
@@ -74,9 +80,9 @@ class Element:
     def summary(self) -> str:
         base = get_kind(self.kind).summary(self.values())
         s = f"{self.count}x {base} [{self.material}]"
-        if self.offset_mm > 0:
+        if self.offset_mm >= _SHOWN_OFFSET_MM:
             s += f" gap {self.offset_mm:.3g}"
-        elif self.offset_mm < 0:
+        elif self.offset_mm <= -_SHOWN_OFFSET_MM:
             s += f" preload {-self.offset_mm:.3g}"
         return s
 
@@ -271,6 +277,10 @@ def evaluate_population(slots: Slots, x_mm: np.ndarray, *, x_max_mm: float | Non
     validity: dict[str, np.ndarray] = {}
 
     mats_all = MaterialArrays.take(slots.materials, np.arange(len(slots.materials)))
+    P = slots.params.shape[2]
+    dom_lo = [np.array([q.lo / _DOMAIN if q.lo > 0 and not q.choices else q.lo for q in k.params]) for k in slots.kinds]
+    dom_hi = [np.array([q.hi if q.choices else q.hi * _DOMAIN for q in k.params]) for k in slots.kinds]
+    kind_lo = [np.r_[[q.lo for q in k.params], np.zeros(P - len(k.params))] for k in slots.kinds]
     for j in range(S):
         kcol = slots.kind[:, j]
         for ki in np.unique(kcol):
@@ -279,11 +289,22 @@ def evaluate_population(slots: Slots, x_mm: np.ndarray, *, x_max_mm: float | Non
             kind = slots.kinds[ki]
             rows = np.flatnonzero(kcol == ki)
             prow = slots.params[rows, j]
+            # parameters outside the numerical domain (non-finite, a factor _DOMAIN beyond a bound, a
+            # choice index out of range) and strokes beyond _MAX_STROKE_MM never reach a kernel: such
+            # rows are evaluated at the lower bounds, unloaded, and marked not finite
+            pk = prow[:, :len(kind.params)]
+            sane = np.all((pk >= dom_lo[ki]) & (pk <= dom_hi[ki]), axis=1) & np.isfinite(slots.count[rows, j]) \
+                & (np.abs(x_max - slots.offset_mm[rows, j]) <= _MAX_STROKE_MM)
+            if not sane.all():
+                prow = np.where(sane[:, None], prow, kind_lo[ki])
             p = {q.name: prow[:, c] for c, q in enumerate(kind.params)}
             mat = mats_all.subset(slots.material[rows, j])
             off = slots.offset_mm[rows, j]
             cnt = slots.count[rows, j]
             u_max = np.maximum(x_max - off, 0.0)
+            if not sane.all():
+                off = np.where(sane, off, x_max)
+                u_max = np.where(sane, u_max, 0.0)
 
             with np.errstate(all="ignore"):
                 u = x[None, :] - off[:, None]
@@ -300,7 +321,7 @@ def evaluate_population(slots: Slots, x_mm: np.ndarray, *, x_max_mm: float | Non
                 a, c1, c2 = (np.broadcast_to(v, rows.shape) for v in kind.box(p, u_max))
                 ms = kind.mass(p, mat, u_max) * cnt
                 # one reduction finds any NaN or inf in a row (a sum with one is not finite)
-                ok = np.isfinite(f.sum(axis=1) + peak + a + c1 + c2 + ms)
+                ok = np.isfinite(f.sum(axis=1) + peak + a + c1 + c2 + ms) & sane
 
             for name, g in margins.items():
                 ok &= np.isfinite(g)
@@ -326,9 +347,13 @@ def evaluate_population(slots: Slots, x_mm: np.ndarray, *, x_max_mm: float | Non
                     tmin[rows] = np.minimum(tmin[rows], p[q.name])
 
     box = np.stack([along, stack_w, stack_h], axis=1)
+    with np.errstate(all="ignore"):
+        size = along * stack_w * stack_h
+        # sums over slots can overflow even when every element's values are finite
+        finite &= np.isfinite(force.sum(axis=1) + size + mass)
     return Response(
         x_mm=x, force_N=force, element_force_N=elem_force, stress_ratio=np.where(finite, sr, np.inf),
-        stress_ratio_curve=sr_curve, box_mm=box, size_mm3=along * stack_w * stack_h, mass_g=mass,
+        stress_ratio_curve=sr_curve, box_mm=box, size_mm3=size, mass_g=mass,
         validity=validity, min_thickness_mm=tmin, finite=finite,
     )
 

@@ -111,7 +111,12 @@ def design_table(res: Synthesis) -> pd.DataFrame:
             for k, v in e.params.items():
                 row[f"e{j}_{k}"] = v
         rows.append(row)
-    return pd.DataFrame(rows)
+    df = pd.DataFrame(rows)
+    # group each element's columns together, in slot order, whatever kinds came first
+    head = [c for c in df.columns if not c.startswith("e") or not c[1:2].isdigit()]
+    slots = sorted({int(c[1:].split("_", 1)[0]) for c in df.columns if c not in head})
+    order = head + [c for j in slots for c in df.columns if c.startswith(f"e{j}_")]
+    return df[order]
 
 
 def synthesize(study: Study, *, seed: int | None = None, population: int | None = None,

@@ -175,17 +175,24 @@ class ElementKind:
         return tuple(q.name for q in self.params)
 
     def summary(self, values: Mapping[str, float]) -> str:
-        """Short readable description of one element, e.g. ``blade_guided 24x6x0.25``."""
+        """Short readable description of one element, e.g. ``blade_guided L24 b6 t0.25``."""
         parts = []
         for q in self.params:
             v = values[q.name]
             if q.choices:
                 parts.append(q.choices[int(round(v))])
-            elif q.integer:
-                parts.append(f"{int(round(v))}")
             else:
-                parts.append(f"{v:.3g}")
-        return f"{self.name} " + "x".join(parts)
+                sym = _SYMBOLS.get(q.name, q.name)
+                parts.append(f"{sym}{int(round(v))}" if q.integer else f"{sym}{v:.3g}")
+        return f"{self.name} " + " ".join(parts)
+
+
+#: short symbols for the topology summary (unknown names are shown in full)
+_SYMBOLS = {
+    "length_mm": "L", "width_mm": "b", "thickness_mm": "t", "rise_mm": "h", "wire_diameter_mm": "d",
+    "mean_diameter_mm": "D", "active_coils": "Na", "free_length_mm": "L0", "initial_tension_N": "Fi",
+    "natural_radius_mm": "Rn", "radius_mm": "R",
+}
 
 
 def second_moment_rect(b: np.ndarray, t: np.ndarray) -> np.ndarray:

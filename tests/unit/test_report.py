@@ -1,0 +1,198 @@
+"""Figures and report.html of a run folder: self-contained, complete, rebuildable from the folder alone."""
+
+from __future__ import annotations
+
+import html
+import re
+import shutil
+from html.parser import HTMLParser
+
+import numpy as np
+import pandas as pd
+import pytest
+from typer.testing import CliRunner
+
+from springsynth._plots import knee_index, plot_pareto, representatives
+from springsynth._report import build_report
+from springsynth._runio import CAUTION, read_run
+from springsynth.cli import app
+from tests.conftest import write_study, write_target
+
+runner = CliRunner()
+
+
+class _Page(HTMLParser):
+    """Collects what a self-containment check needs: every URL-bearing attribute, the
+    tags used and the rows of the Pareto table."""
+
+    def __init__(self):
+        super().__init__()
+        self.urls: list[tuple[str, str, str]] = []
+        self.tags: list[str] = []
+        self.imgs: list[str] = []
+        self.scripts_with_src = 0
+        self.in_pareto = self.in_body = False
+        self.rows: list[list[str]] = []
+        self.headers: list[str] = []
+        self._cell: list[str] | None = None
+        self._in_th = False
+
+    def handle_starttag(self, tag, attrs):
+        a = dict(attrs)
+        self.tags.append(tag)
+        for k in ("src", "href", "data", "action", "poster", "srcset"):
+            if k in a and a[k] is not None:
+                self.urls.append((tag, k, a[k]))
+        if tag == "img":
+            self.imgs.append(a.get("src") or "")
+        if tag == "script" and a.get("src"):
+            self.scripts_with_src += 1
+        if tag == "table" and a.get("id") == "pareto-table":
+            self.in_pareto = True
+        if self.in_pareto and tag == "tbody":
+            self.in_body = True
+        if self.in_pareto and self.in_body and tag == "tr":
+            self.rows.append([])
+        if self.in_pareto and tag == "td" and self.in_body:
+            self._cell = []
+        if self.in_pareto and tag == "th":
+            self._in_th = True
+            self.headers.append("")
+
+    def handle_endtag(self, tag):
+        if tag == "table" and self.in_pareto:
+            self.in_pareto = self.in_body = False
+        if tag == "td" and self._cell is not None:
+            self.rows[-1].append("".join(self._cell).strip())
+            self._cell = None
+        if tag == "th":
+            self._in_th = False
+
+    def handle_data(self, data):
+        if self._cell is not None:
+            self._cell.append(data)
+        if self._in_th:
+            self.headers[-1] += data.strip()
+
+
+def _parse(path) -> _Page:
+    p = _Page()
+    p.feed(path.read_text(encoding="utf-8"))
+    return p
+
+
+@pytest.fixture(scope="module")
+def run_dir(tmp_path_factory):
+    """A tiny seeded run written through the command line (fast budget)."""
+    d = tmp_path_factory.mktemp("report")
+    x = np.linspace(0, 6, 13)
+    write_target(d / "lin.csv", x, 3.0 + 1.2 * x, tol=0.4)
+    study = write_study(d, "lin.csv")
+    out = d / "run"
+    r = runner.invoke(app, ["run", str(study), "--out", str(out), "--population", "20", "--generations", "5"])
+    assert r.exit_code in (0, 1), r.output
+    return out
+
+
+@pytest.fixture
+def run_copy(run_dir, tmp_path):
+    dst = tmp_path / "copy"
+    shutil.copytree(run_dir, dst)
+    return dst
+
+
+def test_run_writes_all_figures_and_the_report(run_dir):
+    table = pd.read_csv(run_dir / "pareto.csv")
+    assert len(table) >= 1
+    for f in ("pareto.png", "curves.png", "convergence.png", "report.html"):
+        assert (run_dir / f).stat().st_size > 1000, f
+    for i in table.design_id:
+        png = run_dir / "designs" / f"{i}.png"
+        assert png.read_bytes()[:8] == b"\x89PNG\r\n\x1a\n", png
+
+
+def test_report_is_self_contained(run_dir):
+    text = (run_dir / "report.html").read_text(encoding="utf-8")
+    page = _parse(run_dir / "report.html")
+    # no network: nothing loaded from or linked to anywhere but the page itself
+    for tag, attr, url in page.urls:
+        assert not re.match(r"^\s*(https?:)?//", url, re.I), (tag, attr, url)
+        assert url.startswith(("data:", "#")), (tag, attr, url)
+    assert not re.search(r"""(src|href)\s*=\s*["']?\s*(https?:)?//""", text, re.I)
+    assert "@import" not in text and "url(" not in text
+    assert "link" not in page.tags and "iframe" not in page.tags and page.scripts_with_src == 0
+    # every figure inline
+    assert len(page.imgs) >= 3 + len(pd.read_csv(run_dir / "pareto.csv"))
+    assert all(src.startswith("data:image/png;base64,") for src in page.imgs)
+    assert text.count("<script") <= 1
+
+
+def test_table_has_one_row_per_design_and_the_expected_columns(run_dir):
+    table = pd.read_csv(run_dir / "pareto.csv")
+    page = _parse(run_dir / "report.html")
+    assert len(page.rows) == len(table)
+    assert all(r[0].startswith(i) for r, i in zip(page.rows, table.design_id))
+    for h in ("id", "curve error [%]", "stress ratio [-]", "size [mm³]", "mass [g]", "feasible", "topology"):
+        assert h in page.headers
+    text = (run_dir / "report.html").read_text(encoding="utf-8")
+    for i in table.design_id:
+        assert f'id="card-{i}"' in text
+
+
+def test_report_carries_cautions_summary_and_model_notes(run_dir):
+    text = (run_dir / "report.html").read_text(encoding="utf-8")
+    assert html.escape(CAUTION) in text
+    for words in ("prototypes", "fatigue", "standards", "licensed"):
+        assert words in text
+    for words in ("envelope", "limits", "budget", "evaluations", "seed", "lin.csv"):
+        assert words in text
+    assert "valid:" in text and "Model validity and sources" in text
+
+
+def test_report_command_rebuilds_from_the_folder_alone(run_copy):
+    made = [run_copy / f for f in ("pareto.png", "curves.png", "convergence.png", "report.html")]
+    made += list((run_copy / "designs").glob("*.png"))
+    for p in made:
+        p.unlink()
+    r = runner.invoke(app, ["report", str(run_copy)])
+    assert r.exit_code == 0, r.output
+    assert "report.html" in r.output
+    for p in made:
+        assert p.exists() and p.stat().st_size > 1000, p
+    assert len(_parse(run_copy / "report.html").rows) == len(pd.read_csv(run_copy / "pareto.csv"))
+
+
+def test_report_command_rejects_a_folder_that_is_not_a_run(tmp_path):
+    r = runner.invoke(app, ["report", str(tmp_path)])
+    assert r.exit_code == 2
+    assert "run.json is missing" in r.output
+
+
+def test_verification_columns_are_shown_when_present_and_omitted_otherwise(run_copy):
+    text = (run_copy / "report.html").read_text(encoding="utf-8")
+    assert "verified_error_pct" not in text and "Verification and tolerance" not in text
+    table = pd.read_csv(run_copy / "pareto.csv")
+    table.insert(6, "verified_error_pct", np.linspace(0.5, 1.5, len(table)))
+    table.insert(7, "in_spec_share", 0.987)
+    table.to_csv(run_copy / "pareto.csv", index=False)
+    build_report(read_run(run_copy))
+    text = (run_copy / "report.html").read_text(encoding="utf-8")
+    page = _parse(run_copy / "report.html")
+    assert "verified_error_pct" in page.headers and "in_spec_share" in page.headers
+    assert "Verification and tolerance" in text and "0.987" in text
+    assert not any(h.startswith("e1_") for h in page.headers)
+
+
+def test_pareto_plot_is_pure_and_labels_the_knee_and_extremes(tmp_path):
+    F = np.array([[0.1, 0.9, 900.0], [5.0, 0.2, 4000.0], [19.0, 0.8, 300.0], [18.0, 0.05, 15000.0], [9.0, 0.4, 50.0]])
+    feas = np.array([True, True, True, True, False])
+    ids = [f"D{i + 1:02d}" for i in range(len(F))]
+    reps = representatives(ids, F, feas)
+    assert reps == {"lowest error": 0, "knee": knee_index(F[:4]), "smallest": 2, "lowest stress": 3}
+    fig = plot_pareto(ids, F, feas, stress_limit=0.8)
+    texts = [t.get_text() for ax in fig.axes for t in ax.texts]
+    assert any(t.startswith("D01") and "lowest error" in t for t in texts)
+    assert any("knee" in t for t in texts)
+    assert all(ax.get_xlabel() and ax.get_ylabel() for ax in fig.axes)
+    assert any(ax.get_yscale() == "log" or ax.get_xscale() == "log" for ax in fig.axes)  # size spans decades
+    assert list(tmp_path.iterdir()) == []
