@@ -272,10 +272,12 @@ def topology_keys(enc: Encoding, X: np.ndarray) -> list[bytes]:
 # ---------------------------------------------------------------------- metrics
 
 def normalised_objectives(study: Study, F: np.ndarray) -> np.ndarray:
-    """Objectives scaled for the hypervolume: error / 100 %, stress ratio / limit, size / envelope volume."""
+    """Objectives scaled by their feasible ranges for the hypervolume: error / limits.max_error_pct,
+    stress ratio / limits.stress_ratio, size / envelope volume (a feasible design lies in the unit cube)."""
     env = study.envelope
     vol = env.length_mm * env.width_mm * env.height_mm
-    return np.stack([F[:, 0] / 100.0, F[:, 1] / study.limits.stress_ratio, F[:, 2] / vol], axis=1)
+    lim = study.limits
+    return np.stack([F[:, 0] / lim.max_error_pct, F[:, 1] / lim.stress_ratio, F[:, 2] / vol], axis=1)
 
 
 _HV = HV(ref_point=np.ones(3))

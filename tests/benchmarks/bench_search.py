@@ -5,8 +5,8 @@ polish), best feasible curve_error_pct, the time at which the best feasible erro
 fell under 2 %, and the hypervolume of the final Pareto set against that of pure random
 sampling of the same genome with the same number of evaluations (ratio > 1: the search
 beats random sampling). Hypervolumes are in the normalised objective space of
-``springsynth._search.hypervolume`` (error / 100 %, stress ratio / limit, size /
-envelope volume; reference point (1, 1, 1)).
+``springsynth._search.hypervolume`` (error / limits.max_error_pct, stress ratio /
+limits.stress_ratio, size / envelope volume; reference point (1, 1, 1)).
 
 Run:  python tests/benchmarks/bench_search.py [studies/x.toml ...] [--seed 1]
 """
