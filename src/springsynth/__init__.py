@@ -7,18 +7,16 @@ Public API::
     result = ss.synthesize(study, seed=1)
     result.to_frame()                 # the Pareto table
     ss.evaluate_design(result.designs[0], [0.0, 1.0, 2.0]).force_N
+
+Names are imported on first use, so that the command line and the element kernels
+start without loading the search and plotting libraries.
 """
 
-__version__ = "0.1.0"
+from __future__ import annotations
 
-from ._assembly import Design, Element, Envelope, Response, evaluate_design  # noqa: E402
-from ._designio import design_to_toml, load_design  # noqa: E402
-from ._errors import InputError  # noqa: E402
-from ._materials import Material, catalogue  # noqa: E402
-from ._study import Study, load_study  # noqa: E402
-from ._synthesis import Synthesis, synthesize  # noqa: E402
-from ._target import Target, load_target  # noqa: E402
-from .elements import ElementKind, Param, registry  # noqa: E402
+import importlib
+
+__version__ = "0.1.0"
 
 __all__ = [
     "__version__",
@@ -42,3 +40,21 @@ __all__ = [
     "registry",
     "synthesize",
 ]
+
+_HOME = {
+    "Design": "._assembly", "Element": "._assembly", "Envelope": "._assembly", "Response": "._assembly",
+    "evaluate_design": "._assembly", "design_to_toml": "._designio", "load_design": "._designio",
+    "InputError": "._errors", "Material": "._materials", "catalogue": "._materials", "Study": "._study",
+    "load_study": "._study", "Synthesis": "._synthesis", "synthesize": "._synthesis", "Target": "._target",
+    "load_target": "._target", "ElementKind": ".elements", "Param": ".elements", "registry": ".elements",
+}
+
+
+def __getattr__(name: str):
+    if name in _HOME:
+        return getattr(importlib.import_module(_HOME[name], __name__), name)
+    raise AttributeError(f"module 'springsynth' has no attribute {name!r}")
+
+
+def __dir__():
+    return sorted(__all__)

@@ -16,6 +16,8 @@ from .elements import get_kind, registry
 __all__ = ["load_design", "design_from_mapping", "design_to_toml", "resolve_materials", "read_toml"]
 
 _TOP_KEYS = {"name", "note", "element", "materials"}
+#: most identical copies of one element in parallel (designs and studies)
+MAX_COUNT = 1000
 _ELEMENT_KEYS = {"kind", "material", "count", "offset_mm"}
 
 
@@ -83,10 +85,10 @@ def element_from_mapping(d: Any, mats: Mapping[str, Material], where: str) -> El
             f"material {mid!r} ({' '.join(mat.forms)}) does not suit {kname}, which is made from "
             f"{' or '.join(kind.forms)} material", where=f"{where}.material")
     count = d.get("count", 1)
-    if isinstance(count, bool) or not isinstance(count, int) or count < 1:
-        raise InputError(f"count must be a whole number >= 1, got {count!r}", where=f"{where}.count")
+    if isinstance(count, bool) or not isinstance(count, int) or not 1 <= count <= MAX_COUNT:
+        raise InputError(f"count must be a whole number >= 1 (at most {MAX_COUNT}), got {count!r}", where=f"{where}.count")
     offset = d.get("offset_mm", 0.0)
-    if isinstance(offset, bool) or not isinstance(offset, (int, float)) or not math.isfinite(offset):
+    if isinstance(offset, bool) or not isinstance(offset, (int, float)) or not _finite(offset):
         raise InputError(f"offset_mm must be a finite number of mm, got {offset!r}", where=f"{where}.offset_mm")
     params: dict[str, float | str] = {}
     for q in kind.params:
@@ -99,8 +101,8 @@ def element_from_mapping(d: Any, mats: Mapping[str, Material], where: str) -> El
                 raise InputError(f"must be one of {', '.join(map(repr, q.choices))}, got {v!r}", where=w)
             params[q.name] = v
             continue
-        if isinstance(v, bool) or not isinstance(v, (int, float)) or not math.isfinite(v):
-            raise InputError(f"must be a number ({q.unit}), got {v!r}", where=w)
+        if isinstance(v, bool) or not isinstance(v, (int, float)) or not _finite(v):
+            raise InputError(f"must be a finite number ({q.unit}), got {v!r}", where=w)
         if q.lo > 0 and v <= 0:
             raise InputError(f"must be > 0 {q.unit}, got {v!r}", where=w)
         if v < 0:
@@ -109,6 +111,14 @@ def element_from_mapping(d: Any, mats: Mapping[str, Material], where: str) -> El
             raise InputError(f"must be a whole number, got {v!r}", where=w)
         params[q.name] = float(v)
     return Element(kname, mid, int(count), float(offset), params)
+
+
+def _finite(v: int | float) -> bool:
+    """Whether a number from a file is finite as a float (a huge TOML integer is not)."""
+    try:
+        return math.isfinite(float(v))
+    except OverflowError:
+        return False
 
 
 def design_from_mapping(doc: Mapping[str, Any], *, where: str, name: str | None = None) -> Design:

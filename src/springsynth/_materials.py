@@ -151,15 +151,20 @@ def _ogden_from_law(law: str, c: Mapping[str, Any], where: str) -> tuple[tuple[f
             raise InputError("the ogden law needs lists mu_MPa = [...] and alpha = [...]", where=where)
         if len(mu) != len(al):
             raise InputError(f"mu_MPa has {len(mu)} terms but alpha has {len(al)}", where=where)
-        return (tuple(_number(v, f"{where}.mu_MPa") for v in mu),
-                tuple(_number(v, f"{where}.alpha") for v in al))
+        alpha = tuple(_number(v, f"{where}.alpha") for v in al)
+        if 0.0 in alpha:
+            raise InputError(f"alpha exponents must be non-zero, got {list(al)!r}", where=where)
+        return tuple(_number(v, f"{where}.mu_MPa") for v in mu), alpha
     raise InputError(f"unknown law {law!r}; use one of {', '.join(LAWS)}", where=where)
 
 
 def _number(v: Any, where: str) -> float:
     if isinstance(v, bool) or not isinstance(v, (int, float)):
         raise InputError(f"must be a number, got {v!r}", where=where)
-    v = float(v)
+    try:
+        v = float(v)
+    except OverflowError:  # an integer beyond the float range
+        v = math.inf
     if not math.isfinite(v):
         raise InputError(f"must be finite, got {v!r}", where=where)
     return v
@@ -201,6 +206,8 @@ def material_from_mapping(mid: str, d: Mapping[str, Any], *, where: str) -> Mate
         if math.isnan(E):
             raise InputError("E_MPa is required for a linear-elastic material", where=where)
         nu = get("nu", 0.3)
+        if not -1.0 < nu < 0.5:
+            raise InputError(f"nu must lie in (-1, 0.5), got {nu!r}", where=where)
         G = get("G_MPa", E / (2 * (1 + nu)))
         yld = get("yield_MPa")
         if math.isnan(yld):

@@ -298,7 +298,7 @@ def hypervolume(study: Study, F: np.ndarray, G: np.ndarray) -> float:
 def run_search(study: Study, *, seed: int, population: int, generations: int,
                warm_start: np.ndarray | None = None,
                on_generation: Callable[[Progress], None] | None = None,
-               polish: bool = True, max_designs: int = 40,
+               polish: bool = True, max_designs: int = 24,
                should_stop: Callable[[], bool] | None = None,
                resume: bytes | None = None) -> SearchOutcome:
     """NSGA-II over the study's genome, then the local polish of the Pareto designs.

@@ -12,7 +12,7 @@ from pathlib import Path
 from typing import Any, Mapping
 
 from ._assembly import Envelope
-from ._designio import read_toml, resolve_materials
+from ._designio import MAX_COUNT, _finite, read_toml, resolve_materials
 from ._errors import InputError
 from ._materials import Material
 from ._suggest import unknown_key_message
@@ -84,13 +84,16 @@ class Study:
         return tuple(m for m in self.search.materials if m.suits(kind.forms))
 
 
-def _num(v: Any, where: str, *, lo: float | None = None, integer: bool = False, strict: bool = True) -> float:
-    if isinstance(v, bool) or not isinstance(v, (int, float)) or not math.isfinite(v):
+def _num(v: Any, where: str, *, lo: float | None = None, integer: bool = False, strict: bool = True,
+         hi: float | None = None) -> float:
+    if isinstance(v, bool) or not isinstance(v, (int, float)) or not _finite(v):
         raise InputError(f"must be a {'whole ' if integer else ''}number, got {v!r}", where=where)
     if integer and v != int(v):
         raise InputError(f"must be a whole number, got {v!r}", where=where)
     if lo is not None and (v <= lo if strict else v < lo):
         raise InputError(f"must be {'>' if strict else '>='} {lo:g}, got {v!r}", where=where)
+    if hi is not None and v > hi:
+        raise InputError(f"must be at most {hi:.15g}, got {v!r}", where=where)
     return v
 
 
@@ -112,9 +115,16 @@ def study_from_mapping(doc: Mapping[str, Any], *, where: str, base_dir: Path) ->
     tfile = doc["target"].get("file")
     if not isinstance(tfile, str) or not tfile:
         raise InputError("target.file must be the path of a target CSV", where=f"{where} [target]")
-    tpath = (base_dir / tfile).resolve() if not Path(tfile).is_absolute() else Path(tfile)
-    if not tpath.exists():
+    try:
+        tpath = (base_dir / tfile).resolve() if not Path(tfile).is_absolute() else Path(tfile)
+        found, folder = tpath.exists(), tpath.is_dir()
+    except (OSError, ValueError, RuntimeError) as e:  # name too long, NUL byte, symlink loop
+        raise InputError(f"target file {tfile!r} cannot be used as a path ({e})", where=f"{where} [target].file") from None
+    if not found:
         raise InputError(f"target file {tfile!r} not found (looked for {tpath})", where=f"{where} [target].file")
+    if folder:
+        raise InputError(f"target file {tfile!r} is a folder ({tpath}); give the path of a target CSV",
+                         where=f"{where} [target].file")
     target = load_target(tpath)
 
     env = doc["envelope"]
@@ -159,12 +169,16 @@ def study_from_mapping(doc: Mapping[str, Any], *, where: str, base_dir: Path) ->
     opts = SearchOptions(
         kinds=tuple(kinds), materials=chosen,
         max_elements=int(_num(s["max_elements"], f"{where} [search].max_elements", lo=1, integer=True, strict=False)),
-        max_count=int(_num(s["max_count"], f"{where} [search].max_count", lo=1, integer=True, strict=False)),
-        population=int(_num(s["population"], f"{where} [search].population", lo=4, integer=True, strict=False)),
-        generations=int(_num(s["generations"], f"{where} [search].generations", lo=1, integer=True, strict=False)),
-        seed=int(_num(s["seed"], f"{where} [search].seed", lo=0, integer=True, strict=False)),
+        max_count=int(_num(s["max_count"], f"{where} [search].max_count", lo=1, integer=True, strict=False,
+                           hi=MAX_COUNT)),
+        population=int(_num(s["population"], f"{where} [search].population", lo=4, integer=True, strict=False,
+                            hi=100_000)),
+        generations=int(_num(s["generations"], f"{where} [search].generations", lo=1, integer=True, strict=False,
+                             hi=100_000)),
+        seed=int(_num(s["seed"], f"{where} [search].seed", lo=0, integer=True, strict=False, hi=2**32 - 1)),
         polish=_bool(s["polish"], f"{where} [search].polish"),
-        verify_top=int(_num(s["verify_top"], f"{where} [search].verify_top", lo=0, integer=True, strict=False)),
+        verify_top=int(_num(s["verify_top"], f"{where} [search].verify_top", lo=0, integer=True, strict=False,
+                            hi=100_000)),
         robust=_bool(s["robust"], f"{where} [search].robust"),
     )
     if opts.max_elements > 6:

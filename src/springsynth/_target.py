@@ -10,6 +10,7 @@ from __future__ import annotations
 
 import csv
 import math
+from array import array
 import re
 from dataclasses import dataclass, field
 from functools import lru_cache
@@ -27,6 +28,10 @@ RESAMPLED_POINTS = 400
 
 _COLUMNS = ("force_min", "force_max", "displacement", "tolerance", "force", "weight")
 _HEADER = re.compile(r"^\s*(" + "|".join(_COLUMNS) + r")(?:_([A-Za-z0-9]+)|\s*\[\s*([^\]]*?)\s*\])?\s*$", re.I)
+#: what a unit may look like: names joined by * / or spaces, each with an optional small integer power
+#: (checked before pint parses it, which would evaluate arbitrary arithmetic such as ``2**1000**1000``)
+_NAME = r"[^\W\d]\w*(?:\s*(?:\*\*|\^)\s*-?\d{1,2})?"
+_UNIT = re.compile(rf"^{_NAME}(?:\s*[*/·]\s*{_NAME}|\s+{_NAME})*$")
 _DIMENSION = {"displacement": ("[length]", "mm"), "force": ("[force]", "N"), "tolerance": ("[force]", "N"),
               "force_min": ("[force]", "N"), "force_max": ("[force]", "N")}
 
@@ -139,16 +144,24 @@ def _factor(unit: str, column: str, where: str) -> float:
     dim, base = _DIMENSION[column]
     if unit == base:
         return 1.0
+    if len(unit) > 40 or not _UNIT.match(unit):
+        raise InputError(f"unknown unit {unit!r} for {column}; use e.g. {base}", where=where)
+    import tokenize
+
     import pint
 
     ureg = _ureg()
     try:
         q = ureg.Quantity(1.0, unit)
-    except (pint.errors.UndefinedUnitError, pint.errors.DefinitionSyntaxError, ValueError, AttributeError, TypeError, AssertionError):
+    except (pint.errors.UndefinedUnitError, pint.errors.DefinitionSyntaxError, ValueError, AttributeError, TypeError,
+            AssertionError, ZeroDivisionError, tokenize.TokenError):
         raise InputError(f"unknown unit {unit!r} for {column}; use e.g. {base}", where=where) from None
     if q.dimensionality != ureg.Quantity(1.0, base).dimensionality:
         raise InputError(f"unit {unit!r} is not a {dim.strip('[]')} unit, as {column} needs (e.g. {base})", where=where)
-    return float(q.to(base).magnitude)
+    fac = float(q.to(base).magnitude)
+    if not (math.isfinite(fac) and fac > 0):
+        raise InputError(f"unit {unit!r} does not convert to a positive multiple of {base}; use e.g. {base}", where=where)
+    return fac
 
 
 def _parse_header(cells: list[str], where: str) -> dict[str, tuple[int, float]]:
@@ -193,8 +206,8 @@ def load_target(path: str | Path) -> Target:
         raise InputError("file not found; check the path", where=where) from None
     except IsADirectoryError:
         raise InputError("is a folder, not a CSV file", where=where) from None
-    except OSError as e:
-        raise InputError(f"cannot be read ({e.strerror})", where=where) from None
+    except (OSError, ValueError) as e:  # ValueError: a NUL in the path
+        raise InputError(f"cannot be read ({getattr(e, 'strerror', None) or e})", where=where) from None
     notices: list[str] = []
     try:
         with fh:
@@ -207,28 +220,34 @@ def load_target(path: str | Path) -> Target:
                 raise InputError(f"row {header_row}: columns are separated by {sep}; use commas", where=where)
             cols = _parse_header(header, where)
             ncol = len(header)
-            data: dict[str, list[float]] = {c: [] for c in cols}
-            rownos: list[int] = []
+            # typed arrays, not lists of floats: a 10^6-row file stays a few tens of MB
+            data: dict[str, array] = {c: array("d") for c in cols}
+            rownos = array("q")
             for rowno, cells in rows:
                 rownos.append(rowno)
                 if len(cells) != ncol:
-                    raise InputError(f"row {rowno} has {len(cells)} cells, the header has {ncol}", where=where)
+                    hint = ""
+                    if len(cells) > ncol and any(re.fullmatch(r"-?\d+", c.strip()) for c in cells[1:]):
+                        hint = " (decimal commas? use points, or quote each cell)"
+                    raise InputError(f"row {rowno} has {len(cells)} cells, the header has {ncol}{hint}", where=where)
                 for name, (j, fac) in cols.items():
                     text = cells[j].strip()
                     try:
                         v = float(text)
                     except ValueError:
-                        hint = " (decimal comma? use a point)" if re.fullmatch(r"-?\d+,\d+", text) else ""
+                        hint = " (decimal comma? use a point)" if re.fullmatch(r"-?\d+,\d+", text) else \
+                            " (a quote opened in this cell is not closed)" if "\n" in text else ""
                         raise InputError(f"row {rowno}, column {name}: {text!r} is not a number{hint}", where=where) from None
                     if not math.isfinite(v):
                         raise InputError(f"row {rowno}, column {name}: {text!r} is not a finite number", where=where)
+                    if not math.isfinite(v * fac):
+                        raise InputError(f"row {rowno}, column {name}: {text!r} overflows when converted to "
+                                         f"{_DIMENSION[name][1]}; check the value and the unit", where=where)
                     data[name].append(v * fac)
-    except UnicodeDecodeError as e:
-        raise InputError(f"is not UTF-8 text (byte {e.start}); save it as UTF-8 CSV", where=where) from None
-    except csv.Error as e:
-        raise InputError(f"CSV syntax error: {e}", where=where) from None
+    except UnicodeDecodeError:
+        raise InputError(_not_utf8(path), where=where) from None
 
-    x = np.array(data["displacement"])
+    x = np.frombuffer(data["displacement"], dtype=float).copy()
     if x.size < 3:
         raise InputError(f"has {x.size} data rows; at least 3 are needed", where=where)
     # report ordering faults by file row before any resampling
@@ -239,22 +258,31 @@ def load_target(path: str | Path) -> Target:
                          f"follows {x[i]:g} mm", where=where)
     if x[0] < 0:
         raise InputError(f"row {rownos[0]}: displacement must be >= 0 (a stroke), got {x[0]:g} mm", where=where)
-    f = np.array(data["force"])
+    f = np.frombuffer(data["force"], dtype=float).copy()
     lo = hi = None
     if "tolerance" in data:
-        tol = np.array(data["tolerance"])
+        tol = np.frombuffer(data["tolerance"], dtype=float).copy()
         if np.any(tol < 0):
             i = int(np.flatnonzero(tol < 0)[0])
             raise InputError(f"row {rownos[i]}: tolerance must be >= 0, got {tol[i]:g} N", where=where)
-        lo, hi = f - tol, f + tol
+        with np.errstate(over="ignore"):
+            lo, hi = f - tol, f + tol
+        bad = np.flatnonzero(~(np.isfinite(lo) & np.isfinite(hi)))
+        if bad.size:
+            i = int(bad[0])
+            raise InputError(f"row {rownos[i]}: force +/- tolerance overflows ({f[i]:g} +/- {tol[i]:g} N); "
+                             f"check the values and units", where=where)
     elif "force_min" in data:
-        lo, hi = np.array(data["force_min"]), np.array(data["force_max"])
+        lo, hi = (np.frombuffer(data[c], dtype=float).copy() for c in ("force_min", "force_max"))
         bad = np.flatnonzero(~((lo <= f) & (f <= hi)))
         if bad.size:
             i = int(bad[0])
             raise InputError(f"row {rownos[i]}: the band [{lo[i]:g}, {hi[i]:g}] N does not contain the force "
                              f"{f[i]:g} N", where=where)
-    w = np.array(data["weight"]) if "weight" in data else None
+    w = np.frombuffer(data["weight"], dtype=float).copy() if "weight" in data else None
+    if w is not None and np.any(w < 0):
+        i = int(np.flatnonzero(w < 0)[0])
+        raise InputError(f"row {rownos[i]}: weight must be >= 0, got {w[i]:g}", where=where)
     if x.size > MAX_POINTS:
         xs = np.linspace(x[0], x[-1], RESAMPLED_POINTS)
         notices.append(f"{x.size} rows resampled to {RESAMPLED_POINTS} evenly spaced points")
@@ -268,7 +296,30 @@ def load_target(path: str | Path) -> Target:
 
 def _read_rows(fh, where):
     """Yield (1-based file row, cells) for non-blank, non-comment rows."""
-    for i, cells in enumerate(csv.reader(fh), start=1):
+    reader = csv.reader(fh)
+    while True:
+        try:
+            cells = next(reader)
+        except StopIteration:
+            return
+        except csv.Error as e:
+            raise InputError(f"row {reader.line_num + 1}: CSV syntax error: {e}", where=where) from None
         if not cells or all(not c.strip() for c in cells) or cells[0].lstrip().startswith("#"):
             continue
-        yield i, cells
+        yield reader.line_num, cells
+
+
+def _not_utf8(path: Path) -> str:
+    """Message for a file that is not UTF-8, naming the first bad row and byte."""
+    with path.open("rb") as fh:
+        head = fh.read(4)
+        if head[:2] in (b"\xff\xfe", b"\xfe\xff"):
+            return "is UTF-16 text; save it as UTF-8 CSV"
+        fh.seek(0)
+        for row, line in enumerate(fh, start=1):
+            try:
+                line.decode("utf-8-sig" if row == 1 else "utf-8")
+            except UnicodeDecodeError as e:
+                return (f"row {row} is not UTF-8 text (byte 0x{line[e.start]:02x} at position {e.start + 1}; "
+                        f"Latin-1 or Windows-1252?); save it as UTF-8 CSV")
+    return "is not UTF-8 text; save it as UTF-8 CSV"

@@ -59,7 +59,7 @@ def test_catalogue_design_round_trip(tmp_path):
     (lambda s: s.replace('material = "lab_strip"', 'material = "unobtainium"'), "unknown material 'unobtainium'"),
     (lambda s: s.replace("thickness_mm = 0.25", "thickness_mm = -0.25"), "thickness_mm: must be > 0"),
     (lambda s: s.replace("thickness_mm = 0.25", ""), "missing thickness_mm"),
-    (lambda s: s.replace("width_mm = 6.0", 'width_mm = "wide"'), "width_mm: must be a number"),
+    (lambda s: s.replace("width_mm = 6.0", 'width_mm = "wide"'), "width_mm: must be a finite number"),
     (lambda s: s.replace("count = 2", "count = 0"), "count must be a whole number >= 1"),
     (lambda s: s.replace("count = 2", "count = 2\ncolour = 3"), "unknown field for blade_guided 'colour'"),
     (lambda s: s.replace("[[element]]", "[[elements]]"), "did you mean 'element'"),
