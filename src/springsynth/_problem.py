@@ -114,7 +114,7 @@ class Encoding:
     def _search_values(self, k: int, z: np.ndarray) -> np.ndarray:
         lo, hi = self.lo[k], self.hi[k]
         z = np.clip(z, 0.0, 1.0)
-        with np.errstate(divide="ignore"):
+        with np.errstate(divide="ignore", invalid="ignore"):  # the log branch is unused where lo = 0
             v = np.where(self.log[k], lo * (hi / lo) ** z, lo + z * (hi - lo))
         v = np.where(self.rnd[k], np.round(v), v)
         ch = self.nch[k] > 0
@@ -201,7 +201,12 @@ def score(study: Study, slots: Slots) -> Scores:
             else np.full(slots.n, -1.0)
         g_mass = r.mass_g / lim.max_mass_g - 1.0 if math.isfinite(lim.max_mass_g) else np.full(slots.n, -1.0)
         g_err = err / lim.max_error_pct - 1.0
-    F = np.stack([err, r.stress_ratio, r.size_mm3], axis=1)
+    obj_err = err
+    if study.search.robust:  # [search] robust = true: 90th-percentile error over fixed tolerance samples
+        from ._tolerance import robust_error
+
+        obj_err = robust_error(study, slots)
+    F = np.stack([obj_err, r.stress_ratio, r.size_mm3], axis=1)
     G = np.stack([g_err, g_len, g_cross, g_stress, g_valid, g_thick, g_mass], axis=1)
     G = np.maximum(G, -1.0)  # only the sign matters below zero; keeps -inf out of pymoo
     bad = ~r.finite[:, None] | ~np.isfinite(G)

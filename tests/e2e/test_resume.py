@@ -54,8 +54,8 @@ def test_sigint_saves_partial_results_and_exits_130(study, tmp_path):
     out = tmp_path / "sig"
     env = dict(os.environ, PYTHONUNBUFFERED="1")
     proc = subprocess.Popen([sys.executable, "-m", "springsynth.cli", "run", str(study), "--out", str(out),
-                             "--generations", "4000"], stdout=subprocess.PIPE, stderr=subprocess.PIPE, env=env)
-    time.sleep(6.0)  # let it get going (imports and a few generations)
+                             "--generations", "400"], stdout=subprocess.PIPE, stderr=subprocess.PIPE, env=env)
+    time.sleep(4.0)  # let it get going (imports and a few generations)
     proc.send_signal(signal.SIGINT)
     _, stderr = proc.communicate(timeout=120)
     assert proc.returncode == 130, stderr.decode()
@@ -63,8 +63,12 @@ def test_sigint_saves_partial_results_and_exits_130(study, tmp_path):
     meta = json.loads((out / "run.json").read_text())
     assert meta["partial"] is True and (out / "checkpoint.pkl").exists() and (out / "pareto.csv").exists()
     # the partial run resumes from the command line into a new folder
-    r = runner.invoke(app, ["run", "--resume", str(out), "--out", str(tmp_path / "cont"), "--generations", "5"])
+    r = runner.invoke(app, ["run", "--resume", str(out), "--out", str(tmp_path / "cont")])
     assert r.exit_code in (0, 1), r.output
+    meta = json.loads((tmp_path / "cont" / "run.json").read_text())
+    assert meta["partial"] is False and meta["resumed_from"] == str(out) and len(meta["history"]) == 400
+    r = runner.invoke(app, ["run", "--resume", str(out), "--generations", "5"])
+    assert r.exit_code == 2 and "drop --population" in r.output
 
 
 def test_resume_needs_an_interrupted_run(reference, tmp_path):
