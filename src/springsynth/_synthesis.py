@@ -3,14 +3,15 @@
 from __future__ import annotations
 
 import math
-import platform
+import time
 from dataclasses import dataclass, field
 from typing import Callable, Sequence
 
 import numpy as np
 import pandas as pd
 
-from ._assembly import Design, evaluate_design
+from ._assembly import Design
+from ._errors import InputError
 from ._problem import CONSTRAINTS, Encoding
 from ._search import Progress, run_search
 from ._study import Study
@@ -65,6 +66,8 @@ class Synthesis:
     validity: dict = field(default_factory=dict)
     partial: bool = False
     checkpoint: bytes | None = None
+    #: design id -> curve error recomputed with the independent verification solvers
+    verified: dict = field(default_factory=dict)
 
     def to_frame(self) -> pd.DataFrame:
         return design_table(self)
@@ -101,6 +104,8 @@ def design_table(res: Synthesis) -> pd.DataFrame:
             "feasible": bool(np.all(res.constraints[i] <= 0)),
             "topology": d.topology(),
         }
+        if res.verified:
+            row["verified_error_pct"] = res.verified.get(d.name, np.nan)
         if not row["feasible"]:
             row["violations"] = res.binding(i)
         for j, e in enumerate(d.elements, start=1):
@@ -154,11 +159,40 @@ def synthesize(study: Study, *, seed: int | None = None, population: int | None 
     slots = enc.decode(out.X)
     designs = tuple(slots.design(i, name=f"D{i + 1:02d}") for i in range(slots.n))
     sc = out.scores
+    verified, t_verify = {}, 0.0
+    if not out.partial and s.verify_top > 0:
+        t0 = time.perf_counter()
+        verified = _verify_top(study, designs, sc, s.verify_top)
+        t_verify = time.perf_counter() - t0
     return Synthesis(
         study=study, designs=designs, objectives=sc.F, constraints=sc.G, mass_g=sc.response.mass_g,
         feasible=out.feasible_found, seed=seed, population=population, generations=generations,
-        evaluations=out.evaluations, history=out.history, polish=out.polish, timings=out.timings,
+        evaluations=out.evaluations, history=out.history, polish=out.polish,
         validity={k: np.asarray(v) for k, v in sc.response.validity.items()},
-        partial=out.partial, checkpoint=out.checkpoint,
+        partial=out.partial, checkpoint=out.checkpoint, verified=verified,
+        timings={**out.timings, **({"verification_s": t_verify} if verified else {})},
     )
+
+
+#: kinds whose independent solver takes tens of seconds per element: left to `springsynth verify`
+SLOW_TO_VERIFY = frozenset({"arch", "elastomer_pad"})
+
+
+def _verify_top(study: Study, designs, sc, top: int) -> dict[str, float]:
+    """Verified curve error of the ``top`` lowest-error feasible designs (NaN where skipped)."""
+    from ._verify import verified_error_pct
+
+    ok = np.flatnonzero(np.all(sc.G <= 0, axis=1))
+    order = ok[np.argsort(sc.F[ok, 0], kind="stable")][:top]
+    out = {}
+    for i in order:
+        d = designs[i]
+        if any(e.kind in SLOW_TO_VERIFY for e in d.elements):
+            out[d.name] = math.nan
+            continue
+        try:
+            out[d.name] = verified_error_pct(d, study.target)
+        except InputError:
+            out[d.name] = math.nan
+    return out
 

@@ -246,9 +246,10 @@ def _progress_runner(study, **kw):
 
 def _finish_run(res, folder):
     df = res.to_frame()
-    t = Table(title=f"Pareto set ({len(df)} designs) -> {folder}", title_justify="left")
-    for c in ("design_id", "curve_error_pct", "stress_ratio", "size_mm3", "mass_g", "topology"):
-        t.add_column(c, overflow="fold")
+    t = Table(title=escape(f"Pareto set: {len(df)} designs in {folder}"), title_justify="left")
+    for c, j in (("id", "left"), ("error %", "right"), ("stress ratio", "right"), ("size mm³", "right"),
+                 ("mass g", "right"), ("topology", "left")):
+        t.add_column(c, justify=j, overflow="fold")
     for _, r in df.head(12).iterrows():
         t.add_row(r.design_id, f"{r.curve_error_pct:.3g}", f"{r.stress_ratio:.3g}", f"{r.size_mm3:.4g}",
                   f"{r.mass_g:.3g}", escape(r.topology))
@@ -296,6 +297,9 @@ def run(
     overrides: list[str] = []
     checkpoint = None
     if resume is not None:
+        if population is not None or generations is not None or seed is not None:
+            raise InputError("--resume continues with the interrupted run's own population, generations and "
+                             "seed; drop --population/--generations/--seed", where="run")
         old = read_run(resume)
         checkpoint = old.checkpoint()
         st = old.study()
@@ -381,6 +385,133 @@ def report(run_dir: Path = typer.Argument(..., help="a run folder written by `sp
 
     path = build_report(read_run(run_dir))
     out.print(f"wrote {path}")
+    _caution()
+
+
+# ------------------------------------------------------------------------- verify and tolerance
+
+def _stroke_points(at, to, points, where):
+    """Stroke points from --at TARGET.csv or --to X (with --points N); returns (x, target or None)."""
+    import numpy as np
+
+    from ._target import load_target
+
+    if at is not None and to is not None:
+        raise InputError("give either --at TARGET.csv or --to X, not both", where=where)
+    if at is not None:
+        t = load_target(at)
+        return t.x_mm, t
+    if to is None:
+        raise InputError("say where to evaluate: --to X (mm, with --points N) or --at TARGET.csv", where=where)
+    if not (math.isfinite(to) and to > 0):
+        raise InputError(f"--to must be a positive number of mm, got {to}", where=where)
+    if points < 2:
+        raise InputError(f"--points must be at least 2, got {points}", where=where)
+    return np.linspace(0.0, to, points), None
+
+
+@app.command()
+@_guard
+def verify(
+    path: Path = typer.Argument(..., help="a design TOML, or a run folder (verifies its designs over the target stroke)"),
+    at: Optional[Path] = typer.Option(None, "--at", help="design: verify at the points of this target CSV"),
+    to: Optional[float] = typer.Option(None, "--to", help="design: largest displacement, mm"),
+    points: int = typer.Option(9, "--points", help="number of stroke points from 0 to the end of the stroke"),
+):
+    """Re-solve designs with independent high-fidelity solvers and report the deviation from the fast models."""
+    import numpy as np
+    import pandas as pd
+
+    from ._verify import THRESHOLD_PCT, verify_design
+
+    if path.is_dir():
+        from ._fileio import write_text_atomic
+        from ._runio import read_run
+
+        if at is not None or to is not None:
+            raise InputError("a run is verified over its own target stroke; drop --at/--to", where="verify")
+        if points < 2:
+            raise InputError(f"--points must be at least 2, got {points}", where="verify")
+        run_ = read_run(path)
+        x = np.linspace(0.0, run_.study().target.stroke_mm, points)
+        reports = [verify_design(d, x) for d in run_.designs]
+        frame = pd.concat([r.to_frame() for r in reports], ignore_index=True) if reports else pd.DataFrame()
+        dest = path / "verification.csv"
+        write_text_atomic(dest, frame.to_csv(index=False, float_format="%.6g", lineterminator="\n"))
+    else:
+        from ._designio import load_design
+
+        d = load_design(path)
+        x, target = _stroke_points(at, to, points, "verify")
+        reports = [verify_design(d, x)]
+        frame = reports[0].to_frame()
+        dest = None
+    tab = Table(title=f"independent verification (deviation in % of the largest value; flag above {THRESHOLD_PCT:g} %)",
+                title_justify="left")
+    for c in ("design", "element", "kind", "force dev %", "stress dev %"):
+        tab.add_column(c)
+    fmt = lambda v: "n/a" if not math.isfinite(v) else f"{v:.2f}"  # noqa: E731
+    methods: dict[str, str] = {}
+    for _, r in frame.iterrows():
+        mark = "[bold yellow]" if r.flagged else ""
+        tab.add_row(escape(str(r.design_id)), str(r.element), r.kind or "", mark + fmt(r.force_dev_pct),
+                    mark + fmt(r.stress_dev_pct))
+        if r.kind:
+            methods.setdefault(r.kind, r.method or r.note)
+    out.print(tab)
+    for k, m in methods.items():
+        out.print(escape(f"  {k}: {m}"), soft_wrap=True)
+    if dest is None and at is not None:
+        rep = reports[0]
+        ek = target.curve_error_pct(rep.force_kernel_N[None])[0]
+        ev = target.curve_error_pct(rep.force_verified_N[None])[0]
+        out.print(f"curve error against {at}: {ek:.3f} % (fast models), {ev:.3f} % (verification solvers)")
+    if dest is not None:
+        out.print(f"wrote {dest}")
+    for r in reports:
+        for f in r.flags:
+            err.print(f"[bold yellow]warning:[/] {escape(f)}")
+    _caution()
+
+
+@app.command()
+@_guard
+def tolerance(
+    design: Path = typer.Argument(..., help="design TOML file"),
+    samples: int = typer.Option(2000, "--samples", help="Monte Carlo samples"),
+    at: Optional[Path] = typer.Option(None, "--at", help="target CSV: stroke points, curve error and share in its band"),
+    to: Optional[float] = typer.Option(None, "--to", help="largest displacement, mm (with --points)"),
+    points: int = typer.Option(41, "--points", help="number of stroke points from 0 to --to"),
+    out_dir: Optional[Path] = typer.Option(None, "--out", help="folder to create for the results (default <design>-tolerance)"),
+    process: str = typer.Option("auto", "--process", help="auto, rolled_strip, drawn_wire, machined, moulded, moulded_rubber or printed"),
+    seed: int = typer.Option(0, "--seed", min=0),
+):
+    """Monte Carlo over manufacturing tolerances: force band, share of parts in spec, sensitivities."""
+    from ._designio import load_design
+    from ._fileio import new_folder
+    from ._tolerance import tolerance_analysis, write_tolerance
+
+    d = load_design(design)
+    x, target = _stroke_points(at, to, points, "tolerance")
+    if samples < 2:
+        raise InputError(f"--samples must be at least 2, got {samples}", where="tolerance")
+    res = tolerance_analysis(d, x, target=target, n_samples=samples, seed=seed, process=process)
+    folder = new_folder(out_dir or Path(f"{d.name}-tolerance"))
+    write_tolerance(res, folder, target=target)
+    out.print(escape(f"{d.name}: {samples} parts; force at {x[-1]:.4g} mm: nominal {res.nominal_N[-1]:.4g} N, "
+                     f"5-95 % {res.p05_N[-1]:.4g} .. {res.p95_N[-1]:.4g} N"))
+    if math.isfinite(res.share_in_band):
+        out.print(f"inside the target band at every point: {100 * res.share_in_band:.1f} % of parts")
+    tab = Table(title="sensitivity (elasticity = least-squares d ln F / d ln p over the stroke; spread = 1-sigma "
+                      "share of the force, %)", title_justify="left")
+    for c in ("quantity", "tolerance", "elasticity", "spread %"):
+        tab.add_column(c)
+    for _, r in res.sensitivity.head(8).iterrows():
+        tol = f"±{r.tolerance_pct:.2g} %" if r.quantity.endswith("modulus") else f"±{r.tolerance_pm:.3g}"
+        tab.add_row(r.quantity, tol, "n/a" if not math.isfinite(r.elasticity) else f"{r.elasticity:.3g}",
+                    f"{r.spread_pct:.3g}")
+    out.print(tab)
+    out.print(f"wrote {folder}/tolerance.png, band.csv, samples.csv, sensitivity.csv")
     _caution()
 
 
