@@ -69,6 +69,8 @@ from functools import lru_cache
 import numpy as np
 from scipy.special import ellipe, ellipeinc, ellipk, ellipkinc
 
+from ._base import DENSITY_TO_G_PER_MM3, ElementKind
+
 __all__ = [
     "cantilever_exact",
     "exact_table",
@@ -273,3 +275,24 @@ def slenderness_margin(L: np.ndarray, t: np.ndarray) -> np.ndarray:
     """``SLENDERNESS_MIN / (L / t) - 1``, shape (n,): <= 0 when L/t >= 10."""
     return SLENDERNESS_MIN * t / L - 1.0
 
+
+class ElasticaBlade(ElementKind):
+    """What the rectangular elastica blades share: validity, swept box and mass.
+
+    Subclasses give ``force`` and ``stress``; ``extra["stroke_limit"]`` is the largest
+    stroke / length of the kind's declared range.
+    """
+
+    def validity_margins(self, p, mat, u_max):
+        L, t = p["length_mm"], p["thickness_mm"]
+        return {
+            "stroke": stroke_margin(u_max, L, self.extra["stroke_limit"]),
+            "slenderness": slenderness_margin(L, t),
+        }
+
+    def box(self, p, u_max):
+        return u_max + p["thickness_mm"], p["length_mm"].copy(), p["width_mm"].copy()
+
+    def mass(self, p, mat, u_max=None):
+        volume = p["length_mm"] * p["width_mm"] * p["thickness_mm"]
+        return mat.rho * volume * DENSITY_TO_G_PER_MM3

@@ -41,13 +41,13 @@ L.L. Howell, Compliant Mechanisms, Wiley 2001 (pseudo-rigid-body cross-check).
 from __future__ import annotations
 
 from . import _elastica
-from ._base import DENSITY_TO_G_PER_MM3, ElementKind, Param
+from ._base import Param
 
 #: Largest stroke / length inside the model's declared range.
 STROKE_LIMIT = _elastica.GUIDED_XI_MAX
 
 
-class BladeGuided(ElementKind):
+class BladeGuided(_elastica.ElasticaBlade):
     """Guided blade; kernels as in the module notes. Shapes: ``p`` (n,), ``u`` (n, m)."""
 
     def force(self, p, mat, u):
@@ -61,20 +61,6 @@ class BladeGuided(ElementKind):
         inv_L = 1.0 / L
         scale = mat.E * t * inv_L**2                       # sigma = E t u B / L^2
         return _elastica.scaled_series(_elastica.guided_fit().moment, u, inv_L, scale)
-
-    def validity_margins(self, p, mat, u_max):
-        L, t = p["length_mm"], p["thickness_mm"]
-        return {
-            "stroke": _elastica.stroke_margin(u_max, L, STROKE_LIMIT),
-            "slenderness": _elastica.slenderness_margin(L, t),
-        }
-
-    def box(self, p, u_max):
-        return u_max + p["thickness_mm"], p["length_mm"].copy(), p["width_mm"].copy()
-
-    def mass(self, p, mat, u_max=None):
-        volume = p["length_mm"] * p["width_mm"] * p["thickness_mm"]
-        return mat.rho * volume * DENSITY_TO_G_PER_MM3
 
 
 KIND = BladeGuided(
