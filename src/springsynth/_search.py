@@ -46,6 +46,8 @@ class Progress:
 
 @dataclass
 class SearchOutcome:
+    """What :func:`run_search` returns: the designs found (as genomes), their scores and the record."""
+
     X: np.ndarray                 # genomes of the returned designs (n, n_var)
     scores: Scores                # their scores
     feasible_found: bool
@@ -161,7 +163,7 @@ class _Mutation(Mutation):
         K = len(enc.kinds)
         for s in range(enc.S):
             b = s * enc.G
-            change = rng.random(n) < 0.5 * p_var * 2
+            change = rng.random(n) < p_var
             new = rng.integers(0 if s else 1, K + 1, n).astype(float)
             changed = change & (new != np.round(X[:, b]))
             X[changed, b] = new[changed]

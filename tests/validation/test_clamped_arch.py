@@ -193,13 +193,15 @@ def _neo_hookean_exact(mu, E, L, b, t, delta):
 
 
 def test_blade_hyperelastic_closure_matches_exact_root():
-    # neo-Hookean strip, mu = 2 MPa; exact scalar root computed here; fixed point within 0.1 %
+    # neo-Hookean strip, mu = 2 MPa; exact scalar root of the moderate-rotation closure computed
+    # here; fixed point within 0.1 % inside that theory's range (delta/L <= 0.08). Beyond it the
+    # kind switches to exact large-rotation kinematics, checked in test_elastomer_blade.py.
     mu, L, b, t = 2.0, 20.0, 5.0, 0.5
     rub = material_from_mapping(
         "nh", {"law": "neo_hookean", "mu_MPa": mu, "density_kg_m3": 1100.0, "strain_limit": 2.0, "forms": ["strip"]},
         where="test",
     )
-    deltas = np.array([0.5, 1.0, 2.0, 3.0, 4.0])       # up to delta/L = 0.2 (eps ~ 8 %)
+    deltas = np.array([0.4, 0.8, 1.2, 1.6])            # up to delta/L = 0.08
     F = _blade_force(rub, L, b, t, deltas)
     ref = [_neo_hookean_exact(mu, rub.E_MPa, L, b, t, d) for d in deltas]
     assert F == pytest.approx(ref, rel=1e-3)

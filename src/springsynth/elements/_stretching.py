@@ -131,7 +131,7 @@ class RowTable:
         return hi
 
 
-def ogden_uniaxial_nominal(lam: np.ndarray, mu: np.ndarray, alpha: np.ndarray) -> np.ndarray:
+def ogden_uniaxial_nominal(lam: np.ndarray, mu: np.ndarray, alpha: np.ndarray, out: np.ndarray | None = None) -> np.ndarray:
     """Uniaxial nominal (first Piola) stress of an incompressible Ogden series, MPa.
 
     ``P(lam) = sum_p mu_p (lam^(alpha_p - 1) - lam^(-alpha_p/2 - 1))``
@@ -144,18 +144,35 @@ def ogden_uniaxial_nominal(lam: np.ndarray, mu: np.ndarray, alpha: np.ndarray) -
         Stretch, > 0.
     mu, alpha : ndarray, shape (n, k)
         Ogden moduli (MPa) and exponents; padding terms have mu = 0.
+    out : ndarray, shape (n, m), optional
+        Where to write the result (may be ``lam`` itself).
 
     Returns
     -------
     ndarray, shape (n, m)
+
+    Works in place on two work arrays (large temporaries cost more than the arithmetic).
     """
-    out = np.zeros(np.broadcast_shapes(lam.shape, mu.shape[:1] + (1,)))
+    shape = np.broadcast_shapes(lam.shape, mu.shape[:1] + (1,))
     log_lam = np.log(lam)
+    if log_lam.shape != shape:
+        log_lam = np.broadcast_to(log_lam, shape).copy()
+    out = np.zeros(shape) if out is None else out
+    out[...] = 0.0
+    tmp = np.empty(shape)
     for p in range(mu.shape[1]):
         if not mu[:, p].any():      # padding term
             continue
         a = alpha[:, p : p + 1]
-        out += mu[:, p : p + 1] * (np.exp((a - 1.0) * log_lam) - np.exp((-0.5 * a - 1.0) * log_lam))
+        m = mu[:, p : p + 1]
+        np.multiply(log_lam, a - 1.0, out=tmp)
+        np.exp(tmp, out=tmp)
+        tmp *= m
+        out += tmp
+        np.multiply(log_lam, -0.5 * a - 1.0, out=tmp)
+        np.exp(tmp, out=tmp)
+        tmp *= m
+        out -= tmp
     return out
 
 
