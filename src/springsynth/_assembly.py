@@ -281,6 +281,7 @@ def evaluate_population(slots: Slots, x_mm: np.ndarray, *, x_max_mm: float | Non
     dom_lo = [np.array([q.lo / _DOMAIN if q.lo > 0 and not q.choices else q.lo for q in k.params]) for k in slots.kinds]
     dom_hi = [np.array([q.hi if q.choices else q.hi * _DOMAIN for q in k.params]) for k in slots.kinds]
     kind_lo = [np.r_[[q.lo for q in k.params], np.zeros(P - len(k.params))] for k in slots.kinds]
+    params_t = np.ascontiguousarray(slots.params.transpose(1, 2, 0))  # (S, P, n): gathers read rows
     for j in range(S):
         kcol = slots.kind[:, j]
         for ki in np.unique(kcol):
@@ -288,7 +289,7 @@ def evaluate_population(slots: Slots, x_mm: np.ndarray, *, x_max_mm: float | Non
                 continue
             kind = slots.kinds[ki]
             rows = np.flatnonzero(kcol == ki)
-            prow = slots.params[rows, j]
+            prow = params_t[j][:, rows].T
             # parameters outside the numerical domain (non-finite, a factor _DOMAIN beyond a bound, a
             # choice index out of range) and strokes beyond _MAX_STROKE_MM never reach a kernel: such
             # rows are evaluated at the lower bounds, unloaded, and marked not finite
@@ -298,7 +299,7 @@ def evaluate_population(slots: Slots, x_mm: np.ndarray, *, x_max_mm: float | Non
             if not sane.all():
                 prow = np.where(sane[:, None], prow, kind_lo[ki])
             p = {q.name: prow[:, c] for c, q in enumerate(kind.params)}
-            mat = mats_all.subset(slots.material[rows, j])
+            mat = mats_all.rows(slots.material[rows, j])
             off = slots.offset_mm[rows, j]
             cnt = slots.count[rows, j]
             u_max = np.maximum(x_max - off, 0.0)
@@ -307,9 +308,10 @@ def evaluate_population(slots: Slots, x_mm: np.ndarray, *, x_max_mm: float | Non
                 u_max = np.where(sane, u_max, 0.0)
 
             with np.errstate(all="ignore"):
-                u = x[None, :] - off[:, None]
+                u = np.subtract(x[None, :], off[:, None])
+                np.maximum(u, 0.0, out=u)       # the element's own stroke, clipped at engagement
                 engaged = u > 0.0
-                f = kind.force(p, mat, np.maximum(u, 0.0))
+                f = kind.force(p, mat, u)
                 f *= engaged
                 f *= cnt[:, None]
                 if kind.monotonic_stress:
@@ -330,11 +332,14 @@ def evaluate_population(slots: Slots, x_mm: np.ndarray, *, x_max_mm: float | Non
             if not ok.all():
                 f[~ok] = 0.0
             finite[rows] &= ok
-            force[rows] += f
+            if j == 0:
+                force[rows] = f  # each row meets its first slot once: assign, no gather
+            else:
+                force[rows] += f
             if detail:
                 elem_force[rows, j] = f
                 with np.errstate(all="ignore"):
-                    s = kind.stress(p, mat, np.maximum(u, 0.0)) / kind.allowable(p, mat)[:, None]
+                    s = kind.stress(p, mat, u) / kind.allowable(p, mat)[:, None]
                 sr_curve[rows] = np.maximum(sr_curve[rows], np.where(engaged, s, 0.0))
             sr[rows] = np.maximum(sr[rows], peak)
             along[rows] = np.maximum(along[rows], a)

@@ -321,6 +321,36 @@ class MaterialArrays:
     def replace(self, **changes) -> "MaterialArrays":
         return dataclasses.replace(self, **changes)
 
+    def rows(self, index: np.ndarray) -> "MaterialArrays":
+        """Like :meth:`subset`, but each field is gathered only when a kernel first reads it
+        (kernels read a few of the fourteen fields; the assembly calls this per kind)."""
+        return _GatheredRows(self, np.asarray(index, dtype=np.intp))  # type: ignore[return-value]
+
+
+class _GatheredRows:
+    """Rows of a :class:`MaterialArrays`, gathered field by field on first access."""
+
+    def __init__(self, source: MaterialArrays, index: np.ndarray):
+        self.__dict__["_source"] = source
+        self.__dict__["_index"] = index
+
+    def __getattr__(self, name: str) -> np.ndarray:
+        value = getattr(self._source, name)[self._index]
+        self.__dict__[name] = value
+        return value
+
+    def __setattr__(self, name, value):
+        raise dataclasses.FrozenInstanceError(f"cannot assign to field {name!r}")
+
+    def subset(self, rows: np.ndarray) -> MaterialArrays:
+        return self._source.subset(self._index[rows])
+
+    def rows(self, rows: np.ndarray) -> "_GatheredRows":
+        return _GatheredRows(self._source, self._index[np.asarray(rows, dtype=np.intp)])
+
+    def replace(self, **changes) -> MaterialArrays:
+        return self._source.subset(self._index).replace(**changes)
+
 
 class _Table:
     def __init__(self, mats: tuple[Material, ...]):

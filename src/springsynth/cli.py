@@ -516,6 +516,9 @@ def tolerance(
 
 
 def main():  # console-script entry point
+    from ._allocator import keep_temporaries_on_heap
+
+    keep_temporaries_on_heap()
     app()
 
 

@@ -6,6 +6,10 @@ preloads) is evaluated at 64 stroke points through the same function the search
 uses. Prints the median over repeats of designs/s, and the ratio to a plain numpy
 cubic ``a x + b x^3`` evaluated on an array of the same size (n x 3 x 64).
 
+Each figure is measured twice in the same process: first with the C library's default
+allocator settings, then after ``keep_temporaries_on_heap()``, which the command line
+applies at start (see ``springsynth/_allocator.py``).
+
 Run:  python tests/benchmarks/bench_core.py [--n 20000] [--repeats 7]
 """
 
@@ -17,6 +21,7 @@ import time
 
 import numpy as np
 
+from springsynth._allocator import keep_temporaries_on_heap
 from springsynth._assembly import Slots, evaluate_population
 from springsynth._materials import catalogue
 from springsynth.elements import registry
@@ -57,21 +62,23 @@ def main() -> None:
     pop = random_population(a.n, kinds=a.kinds)
     x = np.linspace(0.0, 5.0, 64)
     evaluate_population(pop, x)  # warm-up: builds cached tables
-    t_core, t_cubic = [], []
     arr = np.random.default_rng(1).random((a.n * 3, 64))
-    for _ in range(a.repeats):
-        t0 = time.perf_counter()
-        evaluate_population(pop, x)
-        t_core.append(time.perf_counter() - t0)
-        t0 = time.perf_counter()
-        _ = 1.7 * arr + 0.3 * arr**3
-        t_cubic.append(time.perf_counter() - t0)
-    med, medc = statistics.median(t_core), statistics.median(t_cubic)
     print(f"kinds: {', '.join(k.name for k in pop.kinds)}")
     print(f"population {a.n} x 3 elements x 64 points, {a.repeats} repeats")
-    print(f"median {a.n / med:,.0f} designs/s  ({1e6 * med / a.n:.2f} us per design)")
-    print(f"plain numpy cubic on the same array size: median {a.n / medc:,.0f} designs/s")
-    print(f"ratio core / cubic time: {med / medc:.1f}")
+    for label in ("default allocator", "allocator as the command line sets it"):
+        if label.startswith("allocator"):
+            keep_temporaries_on_heap()
+        t_core, t_cubic = [], []
+        for _ in range(a.repeats):
+            t0 = time.perf_counter()
+            evaluate_population(pop, x)
+            t_core.append(time.perf_counter() - t0)
+            t0 = time.perf_counter()
+            _ = 1.7 * arr + 0.3 * arr**3
+            t_cubic.append(time.perf_counter() - t0)
+        med, medc = statistics.median(t_core), statistics.median(t_cubic)
+        print(f"{label}: median {a.n / med:,.0f} designs/s ({1e6 * med / a.n:.2f} us per design); "
+              f"plain numpy cubic on the same array size {a.n / medc:,.0f} designs/s; ratio of times {med / medc:.1f}")
 
 
 if __name__ == "__main__":
