@@ -190,10 +190,17 @@ def materials(fmt: Fmt = typer.Option(Fmt.table, "--format", help="table or csv"
     for c in ("id", "E_MPa", "G_MPa", "nu", "density_kg_m3", "yield_MPa", "fatigue_MPa", "law", "kinds"):
         t.add_column(c)
     for r in rows:
-        t.add_row(r["id"], f"{r['E_MPa']:.4g}", f"{r['G_MPa']:.4g}", f"{r['nu']:.3g}", f"{r['density_kg_m3']:.4g}",
-                  f"{r['yield_MPa']:.4g}", "" if math.isnan(r["fatigue_MPa"]) else f"{r['fatigue_MPa']:.4g}", r["law"], r["kinds"])
+        t.add_row(r["id"], _num(r["E_MPa"]), _num(r["G_MPa"]), f"{r['nu']:.3g}", _num(r["density_kg_m3"]),
+                  _num(r["yield_MPa"]), _num(r["fatigue_MPa"]), r["law"], r["kinds"])
     out.print(t)
     out.print("[dim]Typical values; grade and process move them. `--format csv` adds the sources.[/]")
+
+
+def _num(v: float) -> str:
+    """Plain figures for a table: 203000, 75800, 1.24; blank for NaN."""
+    if math.isnan(v):
+        return ""
+    return f"{v:.0f}" if abs(v) >= 100 else f"{v:.3g}"
 
 
 # ------------------------------------------------------------------------- check

@@ -175,7 +175,7 @@ class ElementKind:
         return tuple(q.name for q in self.params)
 
     def summary(self, values: Mapping[str, float]) -> str:
-        """Short readable description of one element, e.g. ``blade_guided L24 b6 t0.25``."""
+        """Short readable description of one element, e.g. ``blade_guided L=24 b=6 t=0.25``."""
         parts = []
         for q in self.params:
             v = values[q.name]
@@ -183,7 +183,7 @@ class ElementKind:
                 parts.append(q.choices[int(round(v))])
             else:
                 sym = _SYMBOLS.get(q.name, q.name)
-                parts.append(f"{sym}{int(round(v))}" if q.integer else f"{sym}{v:.3g}")
+                parts.append(f"{sym}={int(round(v))}" if q.integer else f"{sym}={v:.3g}")
         return f"{self.name} " + " ".join(parts)
 
 
