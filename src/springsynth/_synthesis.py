@@ -68,6 +68,8 @@ class Synthesis:
     checkpoint: bytes | None = None
     #: design id -> curve error recomputed with the independent verification solvers
     verified: dict = field(default_factory=dict)
+    #: design id -> share of Monte Carlo parts inside the target band (targets with a band)
+    in_spec: dict = field(default_factory=dict)
 
     def to_frame(self) -> pd.DataFrame:
         return design_table(self)
@@ -106,6 +108,8 @@ def design_table(res: Synthesis) -> pd.DataFrame:
         }
         if res.verified:
             row["verified_error_pct"] = res.verified.get(d.name, np.nan)
+        if res.in_spec:
+            row["in_spec_share"] = res.in_spec.get(d.name, np.nan)
         if not row["feasible"]:
             row["violations"] = res.binding(i)
         for j, e in enumerate(d.elements, start=1):
@@ -159,19 +163,30 @@ def synthesize(study: Study, *, seed: int | None = None, population: int | None 
     slots = enc.decode(out.X)
     designs = tuple(slots.design(i, name=f"D{i + 1:02d}") for i in range(slots.n))
     sc = out.scores
-    verified, t_verify = {}, 0.0
+    verified, in_spec, t_verify = {}, {}, 0.0
     if not out.partial and s.verify_top > 0:
         t0 = time.perf_counter()
         verified = _verify_top(study, designs, sc, s.verify_top)
+        if study.target.has_band:
+            in_spec = _in_spec_top(study, designs, verified)
         t_verify = time.perf_counter() - t0
     return Synthesis(
         study=study, designs=designs, objectives=sc.F, constraints=sc.G, mass_g=sc.response.mass_g,
         feasible=out.feasible_found, seed=seed, population=population, generations=generations,
         evaluations=out.evaluations, history=out.history, polish=out.polish,
         validity={k: np.asarray(v) for k, v in sc.response.validity.items()},
-        partial=out.partial, checkpoint=out.checkpoint, verified=verified,
+        partial=out.partial, checkpoint=out.checkpoint, verified=verified, in_spec=in_spec,
         timings={**out.timings, **({"verification_s": t_verify} if verified else {})},
     )
+
+
+def _in_spec_top(study: Study, designs, ids) -> dict[str, float]:
+    """Share of 1000 Monte Carlo parts (manufacturing tolerances) inside the target band."""
+    from ._tolerance import tolerance_analysis
+
+    by_id = {d.name: d for d in designs}
+    return {i: float(tolerance_analysis(by_id[i], study.target.x_mm, target=study.target, n_samples=1000,
+                                        seed=0).share_in_band) for i in ids}
 
 
 #: kinds whose independent solver takes tens of seconds per element: left to `springsynth verify`
