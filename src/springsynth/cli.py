@@ -424,6 +424,7 @@ def verify(
     at: Optional[Path] = typer.Option(None, "--at", help="design: verify at the points of this target CSV"),
     to: Optional[float] = typer.Option(None, "--to", help="design: largest displacement, mm"),
     points: int = typer.Option(9, "--points", help="number of stroke points from 0 to the end of the stroke"),
+    top: Optional[int] = typer.Option(None, "--top", min=1, help="run: only the N lowest-error designs"),
 ):
     """Re-solve designs with independent high-fidelity solvers and report the deviation from the fast models."""
     import numpy as np
@@ -441,7 +442,11 @@ def verify(
             raise InputError(f"--points must be at least 2, got {points}", where="verify")
         run_ = read_run(path)
         x = np.linspace(0.0, run_.study().target.stroke_mm, points)
-        reports = [verify_design(d, x) for d in run_.designs]
+        designs = run_.designs
+        if top is not None:
+            order = np.argsort(run_.table["curve_error_pct"].to_numpy(), kind="stable")[:top]
+            designs = [designs[i] for i in order]
+        reports = [verify_design(d, x) for d in designs]
         frame = pd.concat([r.to_frame() for r in reports], ignore_index=True) if reports else pd.DataFrame()
         dest = path / "verification.csv"
         write_text_atomic(dest, frame.to_csv(index=False, float_format="%.6g", lineterminator="\n"))
