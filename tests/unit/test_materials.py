@@ -71,7 +71,7 @@ def test_forms_as_specified():
         assert set(cat[mid].forms) == {"strip", "bulk"}, mid
     assert set(cat["tpu"].forms) == {"elastomer", "strip"}
     assert set(cat["silicone"].forms) == {"elastomer"}
-    assert set(cat["natural_rubber"].forms) == {"elastomer"}
+    assert set(cat["natural_rubber"].forms) == {"elastomer", "strip"}  # also calendered sheet strip
 
 
 def test_spring_wires():
