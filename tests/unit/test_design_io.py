@@ -76,6 +76,6 @@ def test_bad_designs(tmp_path, edit, needle):
 
 def test_material_must_suit_kind(tmp_path):
     p = tmp_path / "bad.toml"
-    p.write_text(GOOD.replace('material = "lab_strip"', 'material = "natural_rubber"'))
+    p.write_text(GOOD.replace('material = "lab_strip"', 'material = "silicone"'))
     with pytest.raises(InputError, match="does not suit blade_guided"):
         load_design(p)
