@@ -175,6 +175,17 @@ class Slots:
                 par[i, j, : len(vals)] = [vals[q.name] for q in kinds[kind[i, j]].params]
         return cls(kind, mat, count, off, par, kinds, tuple(mats))
 
+    def groups(self):
+        """``(slot j, kind index, rows)`` for every kind present in every slot.
+
+        Whole-population loops run over these (a handful), never over designs.
+        """
+        for j in range(self.n_slots):
+            kcol = self.kind[:, j]
+            for ki in np.unique(kcol):
+                if ki >= 0:
+                    yield j, int(ki), np.flatnonzero(kcol == ki)
+
     def design(self, i: int, name: str = "design") -> Design:
         """Row ``i`` as a :class:`Design` (the inverse of :meth:`from_designs`)."""
         elems = []
@@ -282,74 +293,69 @@ def evaluate_population(slots: Slots, x_mm: np.ndarray, *, x_max_mm: float | Non
     dom_hi = [np.array([q.hi if q.choices else q.hi * _DOMAIN for q in k.params]) for k in slots.kinds]
     kind_lo = [np.r_[[q.lo for q in k.params], np.zeros(P - len(k.params))] for k in slots.kinds]
     params_t = np.ascontiguousarray(slots.params.transpose(1, 2, 0))  # (S, P, n): gathers read rows
-    for j in range(S):
-        kcol = slots.kind[:, j]
-        for ki in np.unique(kcol):
-            if ki < 0:
-                continue
-            kind = slots.kinds[ki]
-            rows = np.flatnonzero(kcol == ki)
-            prow = params_t[j][:, rows].T
-            # parameters outside the numerical domain (non-finite, a factor _DOMAIN beyond a bound, a
-            # choice index out of range) and strokes beyond _MAX_STROKE_MM never reach a kernel: such
-            # rows are evaluated at the lower bounds, unloaded, and marked not finite
-            pk = prow[:, :len(kind.params)]
-            sane = np.all((pk >= dom_lo[ki]) & (pk <= dom_hi[ki]), axis=1) & np.isfinite(slots.count[rows, j]) \
-                & (np.abs(x_max - slots.offset_mm[rows, j]) <= _MAX_STROKE_MM)
-            if not sane.all():
-                prow = np.where(sane[:, None], prow, kind_lo[ki])
-            p = {q.name: prow[:, c] for c, q in enumerate(kind.params)}
-            mat = mats_all.rows(slots.material[rows, j])
-            off = slots.offset_mm[rows, j]
-            cnt = slots.count[rows, j]
-            u_max = np.maximum(x_max - off, 0.0)
-            if not sane.all():
-                off = np.where(sane, off, x_max)
-                u_max = np.where(sane, u_max, 0.0)
+    for j, ki, rows in slots.groups():
+        kind = slots.kinds[ki]
+        prow = params_t[j][:, rows].T
+        # parameters outside the numerical domain (non-finite, a factor _DOMAIN beyond a bound, a
+        # choice index out of range) and strokes beyond _MAX_STROKE_MM never reach a kernel: such
+        # rows are evaluated at the lower bounds, unloaded, and marked not finite
+        pk = prow[:, :len(kind.params)]
+        sane = np.all((pk >= dom_lo[ki]) & (pk <= dom_hi[ki]), axis=1) & np.isfinite(slots.count[rows, j]) \
+            & (np.abs(x_max - slots.offset_mm[rows, j]) <= _MAX_STROKE_MM)
+        if not sane.all():
+            prow = np.where(sane[:, None], prow, kind_lo[ki])
+        p = {q.name: prow[:, c] for c, q in enumerate(kind.params)}
+        mat = mats_all.rows(slots.material[rows, j])
+        off = slots.offset_mm[rows, j]
+        cnt = slots.count[rows, j]
+        u_max = np.maximum(x_max - off, 0.0)
+        if not sane.all():
+            off = np.where(sane, off, x_max)
+            u_max = np.where(sane, u_max, 0.0)
 
-            with np.errstate(all="ignore"):
-                u = np.subtract(x[None, :], off[:, None])
-                np.maximum(u, 0.0, out=u)       # the element's own stroke, clipped at engagement
-                engaged = u > 0.0
-                f = kind.force(p, mat, u)
-                f *= engaged
-                f *= cnt[:, None]
-                if kind.monotonic_stress:
-                    peak = kind.peak_stress_ratio(p, mat, u_max[:, None])
-                else:
-                    grid = u_max[:, None] * np.linspace(0.0, 1.0, _STRESS_GRID)[None, :]
-                    peak = kind.peak_stress_ratio(p, mat, grid)
-                margins = kind.validity_margins(p, mat, u_max)
-                a, c1, c2 = (np.broadcast_to(v, rows.shape) for v in kind.box(p, u_max))
-                ms = kind.mass(p, mat, u_max) * cnt
-                # one reduction finds any NaN or inf in a row (a sum with one is not finite)
-                ok = np.isfinite(f.sum(axis=1) + peak + a + c1 + c2 + ms) & sane
-
-            for name, g in margins.items():
-                ok &= np.isfinite(g)
-                cur = validity.setdefault(name, np.full(n, -np.inf))
-                cur[rows] = np.maximum(cur[rows], np.where(np.isfinite(g), g, np.inf))
-            if not ok.all():
-                f[~ok] = 0.0
-            finite[rows] &= ok
-            if j == 0:
-                force[rows] = f  # each row meets its first slot once: assign, no gather
+        with np.errstate(all="ignore"):
+            u = np.subtract(x[None, :], off[:, None])
+            np.maximum(u, 0.0, out=u)       # the element's own stroke, clipped at engagement
+            engaged = u > 0.0
+            f = kind.force(p, mat, u)
+            f *= engaged
+            f *= cnt[:, None]
+            if kind.monotonic_stress:
+                peak = kind.peak_stress_ratio(p, mat, u_max[:, None])
             else:
-                force[rows] += f
-            if detail:
-                elem_force[rows, j] = f
-                with np.errstate(all="ignore"):
-                    s = kind.stress(p, mat, u) / kind.allowable(p, mat)[:, None]
-                sr_curve[rows] = np.maximum(sr_curve[rows], np.where(engaged, s, 0.0))
-            sr[rows] = np.maximum(sr[rows], peak)
-            along[rows] = np.maximum(along[rows], a)
-            lo, hi = np.minimum(c1, c2), np.maximum(c1, c2)
-            stack_w[rows] += cnt * lo
-            stack_h[rows] = np.maximum(stack_h[rows], hi)
-            mass[rows] += ms
-            for c, q in enumerate(kind.params):
-                if q.thickness:
-                    tmin[rows] = np.minimum(tmin[rows], p[q.name])
+                grid = u_max[:, None] * np.linspace(0.0, 1.0, _STRESS_GRID)[None, :]
+                peak = kind.peak_stress_ratio(p, mat, grid)
+            margins = kind.validity_margins(p, mat, u_max)
+            a, c1, c2 = (np.broadcast_to(v, rows.shape) for v in kind.box(p, u_max))
+            ms = kind.mass(p, mat, u_max) * cnt
+            # one reduction finds any NaN or inf in a row (a sum with one is not finite)
+            ok = np.isfinite(f.sum(axis=1) + peak + a + c1 + c2 + ms) & sane
+
+        for name, g in margins.items():
+            ok &= np.isfinite(g)
+            cur = validity.setdefault(name, np.full(n, -np.inf))
+            cur[rows] = np.maximum(cur[rows], np.where(np.isfinite(g), g, np.inf))
+        if not ok.all():
+            f[~ok] = 0.0
+        finite[rows] &= ok
+        if j == 0:
+            force[rows] = f  # each row meets its first slot once: assign, no gather
+        else:
+            force[rows] += f
+        if detail:
+            elem_force[rows, j] = f
+            with np.errstate(all="ignore"):
+                s = kind.stress(p, mat, u) / kind.allowable(p, mat)[:, None]
+            sr_curve[rows] = np.maximum(sr_curve[rows], np.where(engaged, s, 0.0))
+        sr[rows] = np.maximum(sr[rows], peak)
+        along[rows] = np.maximum(along[rows], a)
+        lo, hi = np.minimum(c1, c2), np.maximum(c1, c2)
+        stack_w[rows] += cnt * lo
+        stack_h[rows] = np.maximum(stack_h[rows], hi)
+        mass[rows] += ms
+        for c, q in enumerate(kind.params):
+            if q.thickness:
+                tmin[rows] = np.minimum(tmin[rows], p[q.name])
 
     box = np.stack([along, stack_w, stack_h], axis=1)
     with np.errstate(all="ignore"):

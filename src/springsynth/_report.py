@@ -227,14 +227,17 @@ def _img(png: bytes, alt: str) -> str:
     return f'<img alt="{_e(alt)}" src="data:image/png;base64,{base64.b64encode(png).decode("ascii")}">'
 
 
-def _num(v, fmt: str = ".4g") -> str:
+def _number(v, show) -> str:
+    """``show(float(v))`` for a finite number, "n/a" for NaN/inf, the escaped text otherwise."""
     try:
         f = float(v)
     except (TypeError, ValueError):
         return _e(v)
-    if not math.isfinite(f):
-        return "n/a"
-    return format(f, fmt)
+    return show(f) if math.isfinite(f) else "n/a"
+
+
+def _num(v, fmt: str = ".4g") -> str:
+    return _number(v, lambda f: format(f, fmt))
 
 
 def _big(v: float) -> str:
@@ -243,13 +246,7 @@ def _big(v: float) -> str:
 
 
 def _pct(v) -> str:
-    try:
-        f = float(v)
-    except (TypeError, ValueError):
-        return _e(v)
-    if not math.isfinite(f):
-        return "n/a"
-    return "&lt; 0.01" if abs(f) < 0.005 else f"{f:.3g}"
+    return _number(v, lambda f: "&lt; 0.01" if abs(f) < 0.005 else f"{f:.3g}")
 
 
 def _sort_value(v) -> str:

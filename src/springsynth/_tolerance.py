@@ -196,18 +196,13 @@ def _sigmas(slots: Slots, process: str = "auto") -> _Sigmas:
     mcls = material_class(E, hyper)
     sp = np.zeros((n, S, P))
     so = np.zeros((n, S))
-    for j in range(S):
-        kcol = slots.kind[:, j]
-        for ki in np.unique(kcol):
-            if ki < 0:
-                continue
-            kind = slots.kinds[ki]
-            rows = np.flatnonzero(kcol == ki)
-            cls = mcls[slots.material[rows, j]]
-            for c, q in enumerate(kind.params):
-                sp[rows, j, c] = param_tolerance(kind.name, q.name, slots.params[rows, j, c], cls, process) \
-                    / SIGMAS_PER_TOLERANCE
-            so[rows, j] = offset_tolerance(cls) / SIGMAS_PER_TOLERANCE
+    for j, ki, rows in slots.groups():
+        kind = slots.kinds[ki]
+        cls = mcls[slots.material[rows, j]]
+        for c, q in enumerate(kind.params):
+            sp[rows, j, c] = param_tolerance(kind.name, q.name, slots.params[rows, j, c], cls, process) \
+                / SIGMAS_PER_TOLERANCE
+        so[rows, j] = offset_tolerance(cls) / SIGMAS_PER_TOLERANCE
     return _Sigmas(sp, so, modulus_tolerance(mcls) / SIGMAS_PER_TOLERANCE)
 
 

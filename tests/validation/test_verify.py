@@ -6,7 +6,6 @@ Every check value carries its source and an explicit tolerance (0.5 % unless sta
 from __future__ import annotations
 
 import math
-import warnings
 
 import numpy as np
 import pytest

@@ -201,12 +201,13 @@ class HelicalCompression(ElementKind):
                 "free_length_ratio": p["free_length_mm"] / (d * (Na + END_COILS))}
 
 
-_SEARCH = (
+#: search coordinates shared by the coil springs: wire, index within its recommended range, coils
+COIL_SEARCH = (
     Param("wire_diameter_mm", "mm", 0.1, 6.0, log=True, thickness=True),
     Param("spring_index", "-", INDEX_MIN, INDEX_MAX),
     Param("active_coils", "-", ACTIVE_COILS_MIN, 40.0, log=True),
-    Param("free_length_ratio", "-", 1.1, 12.0, log=True, doc="free length / solid length"),
 )
+_SEARCH = COIL_SEARCH + (Param("free_length_ratio", "-", 1.1, 12.0, log=True, doc="free length / solid length"),)
 
 
 KIND = HelicalCompression(

@@ -63,7 +63,7 @@ import numpy as np
 
 from ._base import DENSITY_TO_G_PER_MM3, ElementKind, Param
 from .helical_compression import (
-    ACTIVE_COILS_MIN, INDEX_FACTOR_FLOOR, INDEX_MAX, INDEX_MIN, VON_MISES_SHEAR, bergstrasser_factor, spring_rate,
+    ACTIVE_COILS_MIN, COIL_SEARCH, INDEX_FACTOR_FLOOR, INDEX_MAX, INDEX_MIN, VON_MISES_SHEAR, bergstrasser_factor, spring_rate,
     wire_strength,
 )
 
@@ -197,10 +197,7 @@ class HelicalExtension(ElementKind):
                 "initial_stress_position": (tau_i - lo) / (hi - lo)}
 
 
-_SEARCH = (
-    Param("wire_diameter_mm", "mm", 0.1, 6.0, log=True, thickness=True),
-    Param("spring_index", "-", INDEX_MIN, INDEX_MAX),
-    Param("active_coils", "-", ACTIVE_COILS_MIN, 40.0, log=True),
+_SEARCH = COIL_SEARCH + (
     Param("initial_stress_position", "-", 0.0, 1.0, doc="0 = low end, 1 = high end of the preferred range"),
 )
 
