@@ -344,10 +344,95 @@ def test_arch_shipped_table_regenerates():
     # the shipped table is reproducible from the generating function (float32 storage)
     tab = arch_mod.table()
     q_all = arch_mod.q_nodes()
+    np.testing.assert_array_equal(tab["Q"], q_all)
+    np.testing.assert_array_equal(tab["Delta"], arch_mod.delta_nodes())
+    np.testing.assert_allclose(tab["snap_quadratic"], arch_mod.snap_quadratic(), rtol=1e-12)
     rows = [int(np.argmin(np.abs(q_all - q))) for q in (2.4, 10.0)]
     new = arch_mod.build_table(q=q_all[rows])
-    n = len(arch_mod.delta_nodes())
     for key in ("F", "sigma", "sigma_peak", "band"):
-        old = tab[key].flat.reshape(-1, n)[rows]
+        old = tab[key].flat.reshape(-1, tab[key].nx)[rows]
         scale = np.max(np.abs(old), axis=1, keepdims=True)
         assert np.max(np.abs(new[key] - old) / scale) <= 1e-6
+
+
+def _snap_ends_reference(Q):
+    """Strokes / h where the 4 pi mode appears and vanishes, found on the direct Galerkin
+    solution (a 0.001 grid, then bisection on a2 > 0), not from the module's closed form."""
+    d = np.linspace(0.0, 2.2, 2201)
+    on = arch_mod.galerkin(np.repeat(Q, d.size), np.tile(d, Q.size))["a2"].reshape(Q.size, -1) > 0.0
+    first = np.argmax(on, axis=1)
+    last = d.size - 1 - np.argmax(on[:, ::-1], axis=1)
+    lo1, hi1 = d[first - 1], d[first]                             # a2 = 0 at lo1, > 0 at hi1
+    lo2, hi2 = d[last], d[last + 1]                               # a2 > 0 at lo2, = 0 at hi2
+    for _ in range(40):
+        m1, m2 = 0.5 * (lo1 + hi1), 0.5 * (lo2 + hi2)
+        on1 = arch_mod.galerkin(Q, m1)["a2"] > 0.0
+        on2 = arch_mod.galerkin(Q, m2)["a2"] > 0.0
+        lo1, hi1 = np.where(on1, lo1, m1), np.where(on1, m1, hi1)
+        lo2, hi2 = np.where(on2, m2, lo2), np.where(on2, hi2, m2)
+    return hi1, lo2
+
+
+#: Q off the table nodes: near the snap threshold 2.3145 and across the declared range
+_SNAP_Q = np.array([2.3168, 2.3391, 2.4213, 2.5287, 2.8731, 3.6124, 5.437, 8.913, 14.62, 23.87])
+
+
+def _arch_normalised(Q, deltas):
+    """Force F = f l^3/(E I h), stress sigma l^2/(E t h) and the peak stress over the
+    stroke 0..Delta (same normalisation) from the kernels, each shape (len(deltas),);
+    the peak comes from one design per stroke end."""
+    l, b, t, E = 40.0, 5.0, 0.2, STEEL.E_MPa
+    h = Q * t
+    m = len(deltas)
+    p = _p(length_mm=l, width_mm=b, thickness_mm=t, rise_mm=h)
+    u = (np.asarray(deltas) * h)[None, :]
+    F = ARCH.force(p, MaterialArrays.of(STEEL), u)[0] / (E * b * t**3 / 12 * h / l**3)
+    sigma = ARCH.stress(p, MaterialArrays.of(STEEL), u)[0] / (E * t * h / l**2)
+    pk = {k: np.repeat(v, m) for k, v in p.items()}
+    ratio = ARCH.peak_stress_ratio(pk, MaterialArrays.of(STEEL, m), u.reshape(-1, 1))
+    return F, sigma, ratio * STEEL.yield_MPa / (E * t * h / l**2)
+
+
+def test_arch_snap_columns_invert_snap_deltas():
+    # the stress-table column coordinate is the inverse of the column strokes (exact algebra)
+    coef = arch_mod.snap_quadratic()
+    q = np.array([2.3391, 2.5287, 10.0, 23.87])
+    ds = arch_mod.snap_deltas(q, coef)
+    s = arch_mod.snap_columns(ds, q, coef)
+    np.testing.assert_allclose(s, np.broadcast_to(np.arange(ds.shape[1]), s.shape), atol=1e-4)
+
+
+def test_arch_table_force_and_stress_match_direct_galerkin_through_the_snap():
+    # Reference: the project's own many-mode solution, springsynth.elements.arch.galerkin
+    # (40 odd modes + the 4 pi mode), solved directly at each point here; the shipped table
+    # is built from the same function, so this checks the table and its interpolation
+    # (the model itself is checked against the independent energy minimisation above and
+    # the physics sheet / Qiu et al. values). Points: a Delta grid over 0..2.2 and strokes
+    # just before and after both ends of the snap path (the 4 pi mode grows as
+    # sqrt(Delta - Delta_b1) and shrinks as sqrt(Delta_b2 - Delta), so the stress turns
+    # steeply there), for ten Q between the table nodes.
+    # Requirement <= 3 % (force: of the largest |F| along the stroke; stress and its running
+    # peak: of the local value). Measured with the shipped table: force 0.21 % (Q = 3.61),
+    # stress 0.09 %, peak 0.20 %; the former table (stress on plain Delta columns) failed
+    # here with stress 6.8 % and peak 6.4 % at Q = 2.53, just past the snap ends.
+    Q = _SNAP_Q
+    D1, D2 = _snap_ends_reference(Q)
+    np.testing.assert_allclose(np.column_stack(arch_mod.snap_strokes(Q, arch_mod.snap_quadratic())),
+                               np.column_stack((D1, D2)), atol=1e-9)
+    grid = np.linspace(0.0, 2.2, 89)
+    near = np.array([-0.02, -1e-3, 1e-5, 1e-4, 1e-3, 3e-3, 0.01, 0.03])
+    assert Q[0] > arch_mod.snap_threshold(arch_mod.snap_quadratic())
+    F_dev, s_dev, pk_dev = [], [], []
+    for i, q in enumerate(Q):
+        d = np.unique(np.clip(np.concatenate((grid, D1[i] + near, D2[i] - near)), 0.0, 2.2))
+        ref = arch_mod.galerkin(np.full(d.shape, q), d)
+        F, sigma, peak = _arch_normalised(q, d)
+        # running peak of the reference: over a 0.001 grid up to Delta, and Delta itself
+        fine = np.linspace(0.0, 2.2, 2201)
+        run = np.maximum.accumulate(arch_mod.galerkin(np.full(fine.shape, q), fine)["sigma"])
+        peak_ref = np.maximum(run[np.searchsorted(fine, d, side="right") - 1], ref["sigma"])
+        F_dev.append(np.max(np.abs(F - ref["F"])) / np.max(np.abs(ref["F"])))
+        s_dev.append(np.max(np.abs(sigma[1:] / ref["sigma"][1:] - 1.0)))
+        pk_dev.append(np.max(np.abs(peak[1:] / peak_ref[1:] - 1.0)))
+    assert max(F_dev) <= 0.03 and max(s_dev) <= 0.03 and max(pk_dev) <= 0.03     # the requirement
+    assert max(F_dev) <= 0.004 and max(s_dev) <= 0.003 and max(pk_dev) <= 0.004   # reached
