@@ -37,6 +37,8 @@ _DOMAIN = 1e6
 _MAX_STROKE_MM = 1e9
 #: stroke points used for the peak stress of kinds whose stress is not monotonic
 _STRESS_GRID = 33
+#: rows per chunk when adding a slot's forces to the total (keeps the temporary small)
+_CHUNK_ROWS = 2048
 
 
 @dataclass(frozen=True)
@@ -175,16 +177,37 @@ class Slots:
                 par[i, j, : len(vals)] = [vals[q.name] for q in kinds[kind[i, j]].params]
         return cls(kind, mat, count, off, par, kinds, tuple(mats))
 
+    def slot_order(self, j: int) -> tuple[np.ndarray, np.ndarray]:
+        """Rows of slot ``j`` sorted by kind, and where each kind's block of them lies.
+
+        Returns
+        -------
+        order : ndarray of int, shape (n,)
+            Row indices: the rows whose slot ``j`` is empty first, then each kind's rows,
+            in increasing order within a kind (a stable sort).
+        edges : ndarray of int, shape (len(kinds) + 2,)
+            Kind ``ki`` occupies ``order[edges[ki + 1]:edges[ki + 2]]`` and the empty
+            slots ``order[:edges[1]]``.
+        """
+        K = len(self.kinds)
+        key = np.maximum(self.kind[:, j], -1) + 1              # 0 = empty, 1 + ki = kind ki
+        # a stable sort of small integers is a radix sort: linear in n
+        order = np.argsort(key.astype(np.int16) if K < 2**15 - 1 else key, kind="stable")
+        edges = np.zeros(K + 2, dtype=np.intp)
+        np.cumsum(np.bincount(key, minlength=K + 1), out=edges[1:])
+        return order, edges
+
     def groups(self):
         """``(slot j, kind index, rows)`` for every kind present in every slot.
 
-        Whole-population loops run over these (a handful), never over designs.
+        Whole-population loops run over these (a handful), never over designs; ``rows``
+        are increasing.
         """
         for j in range(self.n_slots):
-            kcol = self.kind[:, j]
-            for ki in np.unique(kcol):
-                if ki >= 0:
-                    yield j, int(ki), np.flatnonzero(kcol == ki)
+            order, edges = self.slot_order(j)
+            for ki in range(len(self.kinds)):
+                if edges[ki + 2] > edges[ki + 1]:
+                    yield j, ki, order[edges[ki + 1]:edges[ki + 2]]
 
     def design(self, i: int, name: str = "design") -> Design:
         """Row ``i`` as a :class:`Design` (the inverse of :meth:`from_designs`)."""
@@ -270,12 +293,19 @@ def evaluate_population(slots: Slots, x_mm: np.ndarray, *, x_max_mm: float | Non
     Notes
     -----
     The loop runs over slots and kinds (a handful), never over designs: each kind
-    evaluates all rows that use it in one vectorised call.
+    evaluates all rows that use it in one vectorised call. Within a slot the rows are
+    taken in kind order (:meth:`Slots.slot_order`), so each kind writes its forces,
+    peak stress ratios, boxes and masses into one contiguous block of the slot's
+    arrays (``*_s`` below, shapes (n, m) and (n,)); one gather per slot brings them
+    back to design order and combines them with the slots before, in slot order (the
+    sums are the same, bit for bit, as adding slot after slot). This replaces a
+    scattered read-modify-write of the total force per kind by one contiguous write
+    and one gather per slot. Validity margins go straight to their rows.
     """
     x = np.asarray(x_mm, dtype=float)
     x_max = float(np.max(x)) if x_max_mm is None else float(x_max_mm)
     n, S, m = slots.n, slots.n_slots, x.size
-    force = np.zeros((n, m))
+    force = np.empty((n, m)) if S else np.zeros((n, m))    # the first slot writes it whole
     elem_force = np.zeros((n, S, m)) if detail else None
     sr = np.zeros(n)
     sr_curve = np.zeros((n, m)) if detail else None
@@ -288,74 +318,113 @@ def evaluate_population(slots: Slots, x_mm: np.ndarray, *, x_max_mm: float | Non
     validity: dict[str, np.ndarray] = {}
 
     mats_all = MaterialArrays.take(slots.materials, np.arange(len(slots.materials)))
-    P = slots.params.shape[2]
-    dom_lo = [np.array([q.lo / _DOMAIN if q.lo > 0 and not q.choices else q.lo for q in k.params]) for k in slots.kinds]
-    dom_hi = [np.array([q.hi if q.choices else q.hi * _DOMAIN for q in k.params]) for k in slots.kinds]
-    kind_lo = [np.r_[[q.lo for q in k.params], np.zeros(P - len(k.params))] for k in slots.kinds]
-    params_t = np.ascontiguousarray(slots.params.transpose(1, 2, 0))  # (S, P, n): gathers read rows
-    for j, ki, rows in slots.groups():
-        kind = slots.kinds[ki]
-        prow = params_t[j][:, rows].T
-        # parameters outside the numerical domain (non-finite, a factor _DOMAIN beyond a bound, a
-        # choice index out of range) and strokes beyond _MAX_STROKE_MM never reach a kernel: such
-        # rows are evaluated at the lower bounds, unloaded, and marked not finite
-        pk = prow[:, :len(kind.params)]
-        sane = np.all((pk >= dom_lo[ki]) & (pk <= dom_hi[ki]), axis=1) & np.isfinite(slots.count[rows, j]) \
-            & (np.abs(x_max - slots.offset_mm[rows, j]) <= _MAX_STROKE_MM)
-        if not sane.all():
-            prow = np.where(sane[:, None], prow, kind_lo[ki])
-        p = {q.name: prow[:, c] for c, q in enumerate(kind.params)}
-        mat = mats_all.rows(slots.material[rows, j])
-        off = slots.offset_mm[rows, j]
-        cnt = slots.count[rows, j]
-        u_max = np.maximum(x_max - off, 0.0)
-        if not sane.all():
-            off = np.where(sane, off, x_max)
-            u_max = np.where(sane, u_max, 0.0)
+    # numerical domain and fallback values of each kind, shape (parameters, 1)
+    dom_lo = [np.array([q.lo / _DOMAIN if q.lo > 0 and not q.choices else q.lo for q in k.params], float)[:, None]
+              for k in slots.kinds]
+    dom_hi = [np.array([q.hi if q.choices else q.hi * _DOMAIN for q in k.params], float)[:, None] for k in slots.kinds]
+    kind_lo = [np.array([q.lo for q in k.params], float)[:, None] for k in slots.kinds]
+    thick = [[q.name for q in k.params if q.thickness] for k in slots.kinds]
+    # slot-major copies: the gathers below read contiguous rows
+    params_t = np.ascontiguousarray(slots.params.transpose(1, 2, 0))     # (S, P, n)
+    material_t = np.ascontiguousarray(slots.material.T)                  # (S, n)
+    count_t = np.ascontiguousarray(slots.count.T)
+    offset_t = np.ascontiguousarray(slots.offset_mm.T)
+    with np.errstate(invalid="ignore"):
+        slot_sane = np.isfinite(count_t) & (np.abs(x_max - offset_t) <= _MAX_STROKE_MM)
 
-        with np.errstate(all="ignore"):
-            u = np.subtract(x[None, :], off[:, None])
-            np.maximum(u, 0.0, out=u)       # the element's own stroke, clipped at engagement
-            engaged = u > 0.0
-            f = kind.force(p, mat, u)
-            f *= engaged
-            f *= cnt[:, None]
-            if kind.monotonic_stress:
-                peak = kind.peak_stress_ratio(p, mat, u_max[:, None])
-            else:
-                grid = u_max[:, None] * np.linspace(0.0, 1.0, _STRESS_GRID)[None, :]
-                peak = kind.peak_stress_ratio(p, mat, grid)
-            margins = kind.validity_margins(p, mat, u_max)
-            a, c1, c2 = (np.broadcast_to(v, rows.shape) for v in kind.box(p, u_max))
-            ms = kind.mass(p, mat, u_max) * cnt
-            # one reduction finds any NaN or inf in a row (a sum with one is not finite)
-            ok = np.isfinite(f.sum(axis=1) + peak + a + c1 + c2 + ms) & sane
+    # one slot's results in kind order: force of all copies, peak stress ratio, box, mass,
+    # thinnest section, finite; a row whose slot is empty contributes nothing
+    f_s = np.empty((n, m))
+    sr_curve_s = np.empty((n, m)) if detail else None
+    peak_s, along_s, w_s, h_s, mass_s, thin_s = (np.empty(n) for _ in range(6))
+    ok_s = np.empty(n, dtype=bool)
+    for j in range(S):
+        order, edges = slots.slot_order(j)
+        empty = slice(0, edges[1])
+        for arr in (f_s, peak_s, along_s, w_s, h_s, mass_s) + ((sr_curve_s,) if detail else ()):
+            arr[empty] = 0.0
+        thin_s[empty] = np.inf
+        ok_s[empty] = True
+        for ki, kind in enumerate(slots.kinds):
+            blk = slice(edges[ki + 1], edges[ki + 2])
+            if blk.start == blk.stop:
+                continue
+            rows = order[blk]
+            pk = params_t[j][:len(kind.params), rows]                  # (parameters, rows)
+            # parameters outside the numerical domain (non-finite, a factor _DOMAIN beyond a
+            # bound, a choice index out of range) and strokes beyond _MAX_STROKE_MM never reach
+            # a kernel: such rows are evaluated at the lower bounds, unloaded, and marked not finite
+            sane = slot_sane[j][rows]
+            for inside in (pk >= dom_lo[ki]) & (pk <= dom_hi[ki]):      # faster than np.all(axis=0)
+                sane &= inside
+            off = offset_t[j][rows]
+            cnt = count_t[j][rows]
+            u_max = np.maximum(x_max - off, 0.0)
+            if not sane.all():
+                pk = np.where(sane, pk, kind_lo[ki])
+                off = np.where(sane, off, x_max)
+                u_max = np.where(sane, u_max, 0.0)
+            p = {q.name: pk[c] for c, q in enumerate(kind.params)}
+            mat = mats_all.rows(material_t[j][rows])
 
-        for name, g in margins.items():
-            ok &= np.isfinite(g)
-            cur = validity.setdefault(name, np.full(n, -np.inf))
-            cur[rows] = np.maximum(cur[rows], np.where(np.isfinite(g), g, np.inf))
-        if not ok.all():
-            f[~ok] = 0.0
-        finite[rows] &= ok
-        if j == 0:
-            force[rows] = f  # each row meets its first slot once: assign, no gather
-        else:
-            force[rows] += f
-        if detail:
-            elem_force[rows, j] = f
             with np.errstate(all="ignore"):
-                s = kind.stress(p, mat, u) / kind.allowable(p, mat)[:, None]
-            sr_curve[rows] = np.maximum(sr_curve[rows], np.where(engaged, s, 0.0))
-        sr[rows] = np.maximum(sr[rows], peak)
-        along[rows] = np.maximum(along[rows], a)
-        lo, hi = np.minimum(c1, c2), np.maximum(c1, c2)
-        stack_w[rows] += cnt * lo
-        stack_h[rows] = np.maximum(stack_h[rows], hi)
-        mass[rows] += ms
-        for c, q in enumerate(kind.params):
-            if q.thickness:
-                tmin[rows] = np.minimum(tmin[rows], p[q.name])
+                u = np.subtract(x[None, :], off[:, None])
+                np.copyto(u, 0.0, where=u < 0.0)    # the element's own stroke, clipped at engagement
+                engaged = u > 0.0
+                f = kind.force(p, mat, u)
+                f *= engaged
+                f = np.multiply(f, cnt[:, None], out=f_s[blk])
+                if kind.monotonic_stress:
+                    peak = kind.peak_stress_ratio(p, mat, u_max[:, None])
+                else:
+                    grid = u_max[:, None] * np.linspace(0.0, 1.0, _STRESS_GRID)[None, :]
+                    peak = kind.peak_stress_ratio(p, mat, grid)
+                margins = kind.validity_margins(p, mat, u_max)
+                a, c1, c2 = kind.box(p, u_max)
+                ms = kind.mass(p, mat, u_max) * cnt
+                # one reduction finds any NaN or inf in a row (a sum with one is not finite)
+                ok = np.isfinite(f.sum(axis=1) + peak + a + c1 + c2 + ms) & sane
+                if detail:
+                    s = kind.stress(p, mat, u) / kind.allowable(p, mat)[:, None]
+                    sr_curve_s[blk] = np.where(engaged, s, 0.0)
+
+            for name, g in margins.items():
+                g_ok = np.isfinite(g)
+                ok &= g_ok
+                g = np.where(g_ok, g, np.inf)
+                cur = validity.get(name)
+                if cur is None:
+                    cur = validity[name] = np.full(n, -np.inf)
+                cur[rows] = g if j == 0 else np.maximum(cur[rows], g)    # slot 0: rows still at -inf
+            ok_s[blk] = ok
+            peak_s[blk] = peak
+            along_s[blk] = a
+            w_s[blk] = cnt * np.minimum(c1, c2)
+            h_s[blk] = np.maximum(c1, c2)
+            mass_s[blk] = ms
+            thin_s[blk] = np.inf
+            for name in thick[ki]:
+                np.minimum(thin_s[blk], p[name], out=thin_s[blk])
+
+        if not ok_s.all():
+            f_s[~ok_s] = 0.0
+        back = np.empty(n, dtype=np.intp)
+        back[order] = np.arange(n)              # where each design's row sits in `order`
+        if j == 0:
+            np.take(f_s, back, axis=0, out=force, mode="clip")
+        else:   # in chunks of rows: no second full-size temporary
+            for c in range(0, n, _CHUNK_ROWS):
+                force[c:c + _CHUNK_ROWS] += np.take(f_s, back[c:c + _CHUNK_ROWS], axis=0, mode="clip")
+        if detail:
+            elem_force[:, j] = f_s[back]
+            np.maximum(sr_curve, sr_curve_s[back], out=sr_curve)
+        finite &= ok_s[back]
+        np.maximum(sr, peak_s[back], out=sr)
+        np.maximum(along, along_s[back], out=along)
+        stack_w += w_s[back]
+        np.maximum(stack_h, h_s[back], out=stack_h)
+        mass += mass_s[back]
+        np.minimum(tmin, thin_s[back], out=tmin)
 
     box = np.stack([along, stack_w, stack_h], axis=1)
     with np.errstate(all="ignore"):

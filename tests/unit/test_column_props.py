@@ -170,3 +170,43 @@ def test_clamped_is_four_times_pinned_euler_load(ends):
     K = 0.5 if ends else 1.0
     pcr = math.pi**2 * STEEL.E_MPa * p["width_mm"] * p["thickness_mm"] ** 3 / 12 / (K * p["length_mm"]) ** 2
     assert np.all((F / pcr > 1.0) & (F / pcr < 1.03))
+
+
+def test_table_lookup_is_bilinear_interpolation_of_the_grid():
+    """The kernel's point-by-point table read equals textbook bilinear interpolation,
+    including linear extrapolation of the last cell beyond the delta range."""
+    from springsynth.elements._buckling import load_table
+
+    tab = load_table()
+    rng = np.random.default_rng(7)
+    k, m = 40, 9
+    alpha = rng.uniform(0.0, tab.alpha[-1], k)
+    delta = rng.uniform(0.0, 1.2 * tab.delta[-1], (k, m))
+    q = alpha / tab.da
+    i = np.minimum(q.astype(int), len(tab.alpha) - 2)
+    w = q - i
+    s = delta / tab.dd
+    jj = np.minimum(s.astype(int), len(tab.delta) - 2)
+    f = s - jj
+    start, w_k = tab.row_cells(alpha)
+    np.testing.assert_array_equal(start, i * len(tab.delta))
+    cell = start[:, None] + jj
+    for name, v in (("C", tab.C), ("R", tab.R)):
+        ii = i[:, None]
+        lo = v[ii, jj] + f * (v[ii, jj + 1] - v[ii, jj])
+        hi = v[ii + 1, jj] + f * (v[ii + 1, jj + 1] - v[ii + 1, jj])
+        ref = lo + w[:, None] * (hi - lo)
+        got = tab.lookup(name, cell, f, w_k[:, None], out=np.empty((k, m)), tmp=np.empty((k, m)))
+        np.testing.assert_allclose(got, ref, rtol=1e-13, atol=1e-15)
+
+
+def test_one_stroke_per_design_matches_the_curve():
+    """Peak stress and box read the kernel at one stroke per design: same values as on a curve."""
+    p = population(n=N, seed=5, rise_max=0.4)
+    u = strokes(p)
+    F = COLUMN.force(p, MAT, u)
+    S = COLUMN.stress(p, MAT, u)
+    for c in (0, 17, M - 1):
+        np.testing.assert_allclose(COLUMN.force(p, MAT, u[:, c:c + 1])[:, 0], F[:, c], rtol=1e-13)
+        np.testing.assert_allclose(COLUMN.stress(p, MAT, u[:, c:c + 1])[:, 0], S[:, c], rtol=1e-13)
+    np.testing.assert_allclose(COLUMN.peak_stress_ratio(p, MAT, u[:, -1:]), S[:, -1] / STEEL.yield_MPa, rtol=1e-13)

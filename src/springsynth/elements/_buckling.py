@@ -30,8 +30,9 @@ Fast kernel
    the straight column's kink exactly.
 2. *Large deflection*: ``p = p_imp(alpha, delta) * C(alpha, delta)``, where ``C`` is the
    ratio of the exact inextensible elastica to the imperfect-column law, tabulated on
-   a regular grid (it is smooth: 0.85 to 1.26 over the table) and interpolated by
-   index arithmetic. ``delta`` comes from the backbone; the error this makes is of
+   a regular grid (it is smooth: 0.85 to 1.26 over the table) and interpolated
+   bilinearly, point by point, with the cell found by index arithmetic (no search).
+   ``delta`` comes from the backbone; the error this makes is of
    order ``eps (C - 1) dp/ddelta``, far below 0.1 %.
 3. Mid-span deflection ``W = beta * R(alpha, delta)``, ``beta = sqrt(alpha^2 + 4 delta / pi^2)``,
    ``R`` tabulated the same way.
@@ -232,8 +233,30 @@ def write_table(path):
 
 # --------------------------------------------------------------------------- fast kernel
 
+def _cell_coefficients(v):
+    """Flat bilinear coefficients ``(V, S, A, X)`` of a table ``v`` of shape (na, nd).
+
+    Each is an ndarray of shape (na * nd,), node (i, j) at ``i * nd + j``: the node value
+    ``V``, its increment along delta ``S = v[i, j+1] - v[i, j]``, along alpha
+    ``A = v[i+1, j] - v[i, j]`` and the cross term ``X = A[i, j+1] - A[i, j]`` (zero
+    where a neighbour lies beyond the grid; such cells are never read).
+    """
+    S = np.zeros_like(v)
+    A = np.zeros_like(v)
+    X = np.zeros_like(v)
+    S[:, :-1] = np.diff(v, axis=1)
+    A[:-1] = np.diff(v, axis=0)
+    X[:-1, :-1] = np.diff(A[:-1], axis=1)
+    return tuple(np.ascontiguousarray(a).ravel() for a in (v, S, A, X))
+
+
 class ColumnTable:
-    """The shipped ``C`` and ``R`` tables with their regular grids (``C``, ``R`` shape (na, nd))."""
+    """The shipped ``C`` and ``R`` tables with their regular grids (``C``, ``R`` shape (na, nd)).
+
+    :meth:`lookup` interpolates bilinearly from the flat coefficients of each table
+    (:func:`_cell_coefficients`): in the cell of lower node (i, j), at fractions ``w``
+    along alpha and ``f`` along delta, ``v = V + f S + w (A + f X)``.
+    """
 
     def __init__(self, alpha, delta, C, R):
         self.alpha = np.asarray(alpha, float)
@@ -242,21 +265,49 @@ class ColumnTable:
         self.R = np.asarray(R, float)
         self.da = float(self.alpha[1] - self.alpha[0])
         self.dd = float(self.delta[1] - self.delta[0])
+        self.cells = {"C": _cell_coefficients(self.C), "R": _cell_coefficients(self.R)}
 
-    def rows(self, alpha, which="C"):
-        """The table interpolated linearly at each design's ``alpha`` (clipped to the grid).
+    def row_cells(self, alpha):
+        """Lower grid row of each design's ``alpha`` (clipped to the grid) and the weight of the next.
 
         Returns
         -------
-        vals, slopes : ndarray, shape (n, nd - 1)
-            Value at the start of each ``delta`` cell and its increment over the cell.
+        start : ndarray of int, shape (n,)
+            Flat index of the row's first node, ``i * nd``.
+        w : ndarray, shape (n,)
+            Fraction of the way to row ``i + 1``, in [0, 1).
         """
-        v = self.C if which == "C" else self.R
         q = np.clip(alpha / self.da, 0.0, len(self.alpha) - 1 - 1e-9)
         i = q.astype(np.intp)
-        w = (q - i)[:, None]
-        row = v[i] + w * (v[i + 1] - v[i])
-        return np.ascontiguousarray(row[:, :-1]), np.diff(row, axis=1)
+        return i * len(self.delta), q - i
+
+    def lookup(self, which, cell, f, w, out, tmp):
+        """Table ``which`` (``"C"`` or ``"R"``) interpolated bilinearly, written to ``out``.
+
+        Parameters
+        ----------
+        cell : ndarray of int, shape (k, m)
+            Flat index of each point's cell (lower node), ``i * nd + j``.
+        f : ndarray, shape (k, m)
+            Position along delta within the cell, in grid steps (beyond [0, 1] the end
+            cells are extrapolated).
+        w : ndarray, shape (k, 1)
+            Position along alpha within the row cell.
+        out, tmp : ndarray, shape (k, m)
+            Result and a work array (overwritten).
+        """
+        V, S, A, X = self.cells[which]
+        np.take(X, cell, out=tmp, mode="clip")
+        tmp *= f
+        np.take(A, cell, out=out, mode="clip")
+        out += tmp
+        out *= w
+        np.take(S, cell, out=tmp, mode="clip")
+        tmp *= f
+        out += tmp
+        np.take(V, cell, out=tmp, mode="clip")
+        out += tmp
+        return out
 
 
 @lru_cache(maxsize=1)
@@ -274,12 +325,11 @@ _BLOCK = 16384
 _work = threading.local()
 
 
-def _buffers(size, cap):
-    """Thread-local work arrays: 5 float, 1 integer, a zero array and a ``cap`` array."""
+def _buffers(size):
+    """Thread-local work arrays of at least ``size`` elements: 5 float, 1 integer, 1 of zeros."""
     bufs = getattr(_work, "bufs", None)
-    if bufs is None or bufs[0].size < size or bufs[7][0] != cap:
-        bufs = [np.empty(size) for _ in range(5)] + [
-            np.empty(size, dtype=np.intp), np.zeros(size), np.full(size, float(cap))]
+    if bufs is None or bufs[0].size < size:
+        bufs = [np.empty(size) for _ in range(5)] + [np.empty(size, dtype=np.intp), np.zeros(size)]
         _work.bufs = bufs
     return bufs
 
@@ -311,7 +361,9 @@ def column_kernel(alpha, eps, L, u, scale, w_coef=None, *, want_w=False):
     Notes
     -----
     The block loop runs over chunks of about ``_BLOCK`` elements (hundreds of designs),
-    not over designs; every operation inside is vectorised over the chunk.
+    not over designs; every operation inside is vectorised over the chunk. The tables
+    are read point by point (:meth:`ColumnTable.lookup`), so a call with one stroke per
+    design (peak stress, box) costs as little as its points.
     """
     tab = load_table()
     n, m = u.shape
@@ -327,28 +379,29 @@ def column_kernel(alpha, eps, L, u, scale, w_coef=None, *, want_w=False):
     cr2_dd = c * r * r * inv_dd
     c_dd = c * inv_dd
     r_s = r / scale
+    row0, wa = tab.row_cells(alpha)
     with_w = want_w or w_coef is not None
     a2 = alpha * alpha
-    nd1 = len(tab.delta) - 1
+    cap = len(tab.delta) - 2                         # last cell along delta
     out = np.empty((n, m))
     wout = np.empty((n, m)) if want_w else None
     rows_per = max(1, _BLOCK // max(m, 1))
-    B = _buffers(min(n, rows_per) * m, nd1 - 1)
+    B = _buffers(min(n, rows_per) * m)
     for i0 in range(0, n, rows_per):
         i1 = min(n, i0 + rows_per)
         k = i1 - i0
         sl = slice(i0, i1)
         b, bp, Y, t, f = (x[: k * m].reshape(k, m) for x in B[:5])
-        j, zero, cap = (x[: k * m].reshape(k, m) for x in B[5:])
+        j, zero = (x[: k * m].reshape(k, m) for x in B[5:])
         col = lambda a: a[sl, None]  # noqa: E731
         # start (relative error < 0.3) and three Newton steps (relative error < 2e-8):
+        # Y0 = sqrt(b+ + 4 / (4 + b+)) / (1 + 0.7 (b+ - b)),  b+ = max(b, 0)
         # Y <- (2 Y^3 + 1) / (3 Y^2 - b) = (2/3) (Y^3 + 1/2) / (Y^2 - b/3)
         np.multiply(u[sl], col(b1), out=b)
         b += col(b0)
         np.maximum(b, zero, out=bp)
-        np.multiply(bp, 0.25, out=Y)
-        Y += 1.0
-        np.divide(1.0, Y, out=Y)
+        np.add(bp, 4.0, out=Y)
+        np.divide(4.0, Y, out=Y)
         Y += bp
         np.sqrt(Y, out=Y)
         np.subtract(bp, b, out=t)
@@ -373,32 +426,24 @@ def column_kernel(alpha, eps, L, u, scale, w_coef=None, *, want_w=False):
         Y *= col(r_s)
         np.divide(1.0, Y, out=Y)
         np.subtract(col(scale), Y, out=Y)
-        # regular-grid interpolation along delta in each design's row of C
-        np.minimum(f, cap, out=bp)
-        np.maximum(bp, zero, out=bp)
+        # cell along delta (clipped to the grid; beyond it the end cell extrapolates) and
+        # the position in it, then the flat cell index in the design's row
+        np.clip(f, 0.0, cap, out=bp)
         np.copyto(j, bp, casting="unsafe")
         f -= j
-        j += (np.arange(k, dtype=np.intp) * nd1)[:, None]
-        Cv, Cs = tab.rows(alpha[sl], "C")
-        np.take(Cs, j, out=bp, mode="clip")
-        bp *= f
-        np.take(Cv, j, out=b, mode="clip")
-        b += bp
+        j += col(row0)
+        w = col(wa)
+        C = tab.lookup("C", j, f, w, out=b, tmp=bp)
         if not with_w:
-            np.multiply(Y, b, out=out[sl])         # scale p,  p = p_b C
+            np.multiply(Y, C, out=out[sl])          # scale p,  p = p_b C
             continue
-        Y *= b
+        Y *= C
         # W = beta R,  beta^2 = alpha^2 + 4 delta / pi^2,  delta = dd t
         t *= 4.0 * tab.dd / _PI2
         t += col(a2)
         np.maximum(t, zero, out=t)
         np.sqrt(t, out=t)
-        Rv, Rs = tab.rows(alpha[sl], "R")
-        np.take(Rs, j, out=bp, mode="clip")
-        bp *= f
-        np.take(Rv, j, out=b, mode="clip")
-        b += bp
-        t *= b
+        t *= tab.lookup("R", j, f, w, out=b, tmp=bp)
         if want_w:
             wout[sl] = t
         else:

@@ -157,9 +157,9 @@ def ogden_uniaxial_nominal(lam: np.ndarray, mu: np.ndarray, alpha: np.ndarray, o
     log_lam = np.log(lam)
     if log_lam.shape != shape:
         log_lam = np.broadcast_to(log_lam, shape).copy()
-    out = np.zeros(shape) if out is None else out
-    out[...] = 0.0
+    out = np.empty(shape) if out is None else out
     tmp = np.empty(shape)
+    first = True
     for p in range(mu.shape[1]):
         if not mu[:, p].any():      # padding term
             continue
@@ -167,12 +167,18 @@ def ogden_uniaxial_nominal(lam: np.ndarray, mu: np.ndarray, alpha: np.ndarray, o
         m = mu[:, p : p + 1]
         np.multiply(log_lam, a - 1.0, out=tmp)
         np.exp(tmp, out=tmp)
-        tmp *= m
-        out += tmp
+        if first:                   # the first term is written, not added to zeros
+            np.multiply(tmp, m, out=out)
+            first = False
+        else:
+            tmp *= m
+            out += tmp
         np.multiply(log_lam, -0.5 * a - 1.0, out=tmp)
         np.exp(tmp, out=tmp)
         tmp *= m
         out -= tmp
+    if first:                       # no term at all
+        out[...] = 0.0
     return out
 
 

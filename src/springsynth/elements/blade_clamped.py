@@ -140,7 +140,7 @@ HYPER_ROTATION_LIMIT = 0.6
 #: Fixed-point passes for the hyperelastic stretching closure (the first with the
 #: small-strain modulus, the others with the law).
 _HYPER_PASSES = 2
-#: Points per block of the hyperelastic chord model (keeps its temporaries in cache).
+#: Points per block of the kernels (keeps their temporaries small and in cache).
 _BLOCK_POINTS = 32768
 #: Below this b the chord functions take their b -> 0 limits (error ~ b^2/15 < 1e-5).
 _B_MIN = 0.01
@@ -310,6 +310,7 @@ def hyperelastic_solution(L, t, E, mu, alpha, u):
     P = np.empty_like(lam)
     bb = np.empty_like(lam)
     lam_b = np.empty_like(lam) if blend else None
+    chord_r2 = chord_r * chord_r if blend else None
     for k in range(_HYPER_PASSES + 1):
         if k == 0:
             np.subtract(lam, 1.0, out=bb)
@@ -322,7 +323,7 @@ def hyperelastic_solution(L, t, E, mu, alpha, u):
             lam_b *= w
             lam_b += 1.0                            # lambda in the bending stiffness
             bb /= lam_b
-            bb *= chord_r * chord_r
+            bb *= chord_r2
         np.maximum(bb, 0.0, out=bb)
         np.sqrt(bb, out=bb)
         bb *= kb
@@ -427,12 +428,30 @@ class BladeClamped(ElementKind):
             out[j] = s
         return out
 
+    @staticmethod
+    def _table_curve(key, u, t, coef, times_u):
+        """``coef T(u / t)`` (times ``u`` when ``times_u``) from the table ``key``, shape (n, m).
+
+        Linear-material kernel of :meth:`force` and :meth:`stress`; ``t`` and ``coef``
+        shape (n,). Evaluated in blocks of about _BLOCK_POINTS points written straight
+        into the result, so its temporaries stay small and in cache.
+        """
+        tab = normalised_tables()[key]
+        inv = 1.0 / (X_STEP * t)
+        out = np.empty(u.shape)
+        step = max(1, _BLOCK_POINTS // max(u.shape[1], 1))
+        for i in range(0, u.shape[0], step):
+            j = slice(i, i + step)
+            s = tab.scaled(np.multiply(u[j], inv[j, None], out=out[j]))
+            if times_u:
+                s *= u[j]
+            s *= coef[j, None]
+        return out
+
     def force(self, p, mat, u):
         L, b, t = p["length_mm"], p["width_mm"], p["thickness_mm"]
         hyper = np.flatnonzero(mat.hyperelastic)
-        f = normalised_tables()["R"].scaled(u * (1.0 / (X_STEP * t))[:, None])
-        f *= u
-        f *= (16.0 * mat.E * b * (t / L) ** 3)[:, None]          # 192 E I / L^3
+        f = self._table_curve("R", u, t, 16.0 * mat.E * b * (t / L) ** 3, times_u=True)   # 192 E I / L^3
         if hyper.size:
             fh = self._hyper(p, mat, hyper, u[hyper], "F_per_width")
             fh *= b[hyper, None]
@@ -441,8 +460,7 @@ class BladeClamped(ElementKind):
 
     def stress(self, p, mat, u):
         L, t = p["length_mm"], p["thickness_mm"]
-        sigma = normalised_tables()["S"].scaled(u * (1.0 / (X_STEP * t))[:, None])
-        sigma *= (mat.E * (t / L) ** 2)[:, None]                 # sigma = E t^2/L^2 S(delta/t)
+        sigma = self._table_curve("S", u, t, mat.E * (t / L) ** 2, times_u=False)   # E t^2/L^2 S(delta/t)
         hyper = np.flatnonzero(mat.hyperelastic)
         if hyper.size:
             sigma[hyper] = self._hyper(p, mat, hyper, u[hyper], "stress")
