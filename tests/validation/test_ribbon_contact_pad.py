@@ -7,14 +7,24 @@ Tolerances cover the rounding of the printed value unless a wider one is stated.
 
 from __future__ import annotations
 
+import csv
 import math
+from pathlib import Path
 
 import numpy as np
 import pytest
 
-from springsynth._materials import Material, MaterialArrays, material_from_mapping
+from springsynth._materials import Material, MaterialArrays, catalogue, material_from_mapping
 from springsynth.elements import get_kind
-from springsynth.elements.elastomer_pad import ogden_uniaxial_stress, shape_factor
+from springsynth.elements.elastomer_pad import (
+    MODEL_STRAIN_LIMIT,
+    S_MAX,
+    ogden_shear_secant,
+    ogden_uniaxial_stress,
+    pressure_factor,
+    shape_factor,
+    torsion_coefficient,
+)
 
 RIBBON = get_kind("ribbon")
 SPHERE = get_kind("contact_sphere")
@@ -142,16 +152,85 @@ def test_formula_vectors(law, constants, expected):
     assert P == pytest.approx(np.array(expected), abs=0.6e-4)
 
 
-def test_pad_without_bonding_effect_is_uniaxial_compression():
-    # physics.md sec. 11: neo-Hookean P = mu (lambda - lambda^-2). A tall slender block (S -> 0)
-    # of a nearly incompressible rubber carries -P per unit loaded area. Tolerance 2e-4
-    # (2 S^2 = 1.25e-7; bulk term 3(1 - 2 nu)(1 + 2 S^2) = 6e-5 for nu = 0.49999).
-    mu = 0.4
-    p = arrays(length_mm=1.0, width_mm=1.0, thickness_mm=1000.0)
-    mat = MaterialArrays.of(rubber("neo_hookean", nu=0.49999, mu_MPa=mu))
-    lam = np.array([0.95, 0.9, 0.8, 0.6])
-    F = PAD.force(p, mat, (1000.0 * (1.0 - lam))[None, :])[0]
-    assert F == pytest.approx(-mu * (lam - lam**-2), rel=2e-4)
+# --------------------------------------------------------------------------- bonded pad
+
+# Torsion coefficient k1 of a 2a x 2b rectangle (J = k1 (2a)(2b)^3), as tabulated in
+# S.P. Timoshenko & J.N. Goodier, Theory of Elasticity, 3rd ed., McGraw-Hill 1970, sec. 109
+# (printed to 3 decimals) [memory]. The pressure problem of a bonded incompressible layer
+# is the same Poisson problem, so these numbers fix the incompressible pressure share.
+TORSION_K1 = [(1.0, 0.141), (1.5, 0.196), (2.0, 0.229), (2.5, 0.249), (3.0, 0.263), (4.0, 0.281),
+              (5.0, 0.291), (10.0, 0.312)]
+
+
+@pytest.mark.parametrize("r, k1", TORSION_K1)
+def test_torsion_coefficient_matches_table(r, k1):
+    assert torsion_coefficient(r) == pytest.approx(k1, abs=0.6e-3)
+
+
+def test_pressure_factor_limits_and_exact_strip():
+    # Incompressible limit: Phi -> k1 (same Poisson problem, see above); the kernel's
+    # truncated end correction leaves 1.8e-5 relative.
+    for r in (1.0, 2.0, 4.0):
+        assert pressure_factor(1e-12, r) == pytest.approx(torsion_coefficient(r), rel=3e-5)
+    # Bulk-limited layer: p_mean -> K eps, i.e. Phi x^2 -> 1 - (1 + b/a)/x for a thin boundary
+    # layer along the sides; checked with a 20,000-term sum of the same series at x = 1000
+    # (the kernel's truncated series is checked against it below).
+    n = np.arange(1.0, 40000.0, 2.0)
+    def series(x2, r):
+        k2 = (n * np.pi / 2.0) ** 2
+        z = np.sqrt(k2 + x2) * r
+        return np.sum(8.0 / (n * np.pi) ** 2 / (k2 + x2) * (1.0 - np.tanh(z) / z))
+    assert series(1e6, 1.0) * 1e6 == pytest.approx(1.0 - 2.0 / 1e3, abs=1e-4)
+    # kernel against the long sum up to x = 12 (nu = 0.45 at S = 5): measured 2.7e-4, tolerance 3e-4
+    for x2 in (1.0, 10.0, 40.0, 144.0):
+        for r in (1.0, 4.0):
+            assert pressure_factor(x2, r) == pytest.approx(series(x2, r), rel=3e-4)
+    # Long strip (a/b -> infinity): the layer equation p'' - alpha^2 p = -alpha^2 K eps on
+    # |y| < b with p(+-b) = 0 has the exact solution p = K eps (1 - cosh(alpha y)/cosh(alpha b)),
+    # mean K eps (1 - tanh(x)/x), x = alpha b (derived here); r = 1e7 leaves < 1e-6.
+    x = np.array([0.3, 1.0, 3.0, 10.0])
+    exact = (1.0 - np.tanh(x) / x) / x**2
+    assert pressure_factor(x**2, np.full(4, 1e7)) == pytest.approx(exact, rel=1e-6)
+
+
+def test_incompressible_pressure_coefficients_of_rectangles():
+    # Pressure method for bonded incompressible blocks: E_a - E = beta E S^2 with
+    # beta = 4 k1 (1 + b/a)^2 (derived in the elastomer_pad module): 16 x 0.141 = 2.256 for a
+    # square from the torsion table above (tolerance: its rounding, 16 x 0.5e-3), and 4/3 for a
+    # long strip, i.e. E_a = 4 G S^2 (common practice [memory]). Gent & Lindley round to
+    # beta = 2 for square and moderately rectangular blocks (physics.md sec. 11).
+    beta = lambda r: 4.0 * torsion_coefficient(r) * (1.0 + 1.0 / r) ** 2  # noqa: E731
+    assert beta(1.0) == pytest.approx(16.0 * 0.141, abs=8e-3)
+    assert beta(1e6) == pytest.approx(4.0 / 3.0, rel=1e-5)
+    assert 4.0 / 3.0 < beta(4.0) < beta(2.0) < beta(1.0)
+
+
+def _secant_by_energy(gamma, mu, alpha, h=1e-6):
+    """tau/gamma from a central difference of W along simple shear (eigenvalues of C)."""
+    def W(g):
+        F = np.array([[1.0, g, 0.0], [0.0, 1.0, 0.0], [0.0, 0.0, 1.0]])
+        lam = np.sqrt(np.linalg.eigvalsh(F.T @ F))
+        return sum(m / a * (np.sum(lam**a) - 3.0) for m, a in zip(mu, alpha))
+    return (W(gamma + h) - W(gamma - h)) / (2.0 * h) / gamma
+
+
+@pytest.mark.parametrize("law, mu, alpha", [
+    ("neo-Hookean mu = 0.4", [0.4], [2.0]),
+    ("Mooney-Rivlin C10 = 0.16, C01 = 0.02", [0.32, -0.04], [2.0, -2.0]),
+    ("Ogden 1972", OGDEN_1972["mu_MPa"], OGDEN_1972["alpha"]),
+])
+def test_simple_shear_secant_modulus(law, mu, alpha):
+    # Independent reference: the strain energy of the Ogden series differentiated
+    # numerically along simple shear F = [[1, gamma, 0], [0, 1, 0], [0, 0, 1]] (principal
+    # stretches from the eigenvalues of C). Neo-Hookean and Mooney-Rivlin laws are exactly
+    # linear in simple shear, tau = mu gamma and tau = 2 (C10 + C01) gamma (common practice).
+    g = np.array([0.05, 0.3, 1.0, 2.0])
+    mu_a, al_a = np.array([mu + [0.0] * (3 - len(mu))]), np.array([alpha + [1.0] * (3 - len(alpha))])
+    got = ogden_shear_secant(g[None, :], mu_a, al_a)[0]
+    ref = np.array([_secant_by_energy(x, mu, alpha) for x in g])
+    assert got == pytest.approx(ref, rel=1e-6)
+    if len(alpha) < 3 and all(abs(abs(a) - 2.0) < 1e-12 for a in alpha):
+        assert got == pytest.approx(np.full(4, 0.5 * sum(m * a for m, a in zip(mu, alpha))), rel=1e-12)
 
 
 def test_shape_factor_of_square_block():
@@ -159,34 +238,65 @@ def test_shape_factor_of_square_block():
     assert shape_factor(50.0, 50.0, 10.0) == pytest.approx(1.25, rel=1e-12)
 
 
-def test_gent_lindley_apparent_modulus_small_strain():
-    # physics.md sec. 11: E_a = E (1 + 2 S^2) for bonded square blocks (Gent & Lindley 1959).
-    # Natural rubber (Ogden 1972, E0 = 1.243 MPa [computed in sec. 11]), nu = 0.4999, square
-    # 50 x 50 x 10 (S = 1.25): initial slope ~ A E0 (1 + 2 S^2) / t within 2 %.
-    a, h = 50.0, 10.0
+@pytest.mark.parametrize("S", [0.5, 1.0, 1.75, 2.5])
+def test_gent_lindley_apparent_modulus_small_strain(S):
+    # physics.md sec. 11: E_a = E (1 + 2 S^2) for bonded square blocks (Gent & Lindley 1959),
+    # a design rule with beta rounded down from the pressure method's 2.25. The kernel, fitted
+    # to finite elements, lies above it: FE gives 3.354 E at S = 1 (+11.8 %, mesh study in
+    # springsynth._verify.pad_force_fe). Natural rubber law (Ogden 1972), nu = 0.4999,
+    # square 50 x 50, small strain. Expected: 0 to +15 % above Gent & Lindley.
+    a = 50.0
+    h = a / (4.0 * S)
     p = arrays(length_mm=a, width_mm=a, thickness_mm=h)
     mat = MaterialArrays.of(rubber("ogden", nu=0.4999, **OGDEN_1972))
     du = 1e-6 * h
-    slope = PAD.force(p, mat, np.array([[du]]))[0, 0] / du
-    assert slope == pytest.approx(a * a * 1.243 * (1 + 2 * 1.25**2) / h, rel=0.02)
-
-
-@pytest.mark.parametrize(
-    "h, Ea_check",
-    [
-        # physics.md sec. 11 check [computed]: E = 3, B = 2000 MPa, beta = 2:
-        # S = 1.25 -> E_a' = 12.299 MPa; S = 2.5 -> E_a' = 39.696 MPa
-        (10.0, 12.299),
-        (5.0, 39.696),
-    ],
-)
-def test_gent_lindley_with_bulk_compliance(h, Ea_check):
-    # neo-Hookean mu = 1 (E = 3 MPa); nu chosen so B = E / (3 (1 - 2 nu)) = 2000 MPa.
-    nu = 0.5 - 3.0 / (6.0 * 2000.0)
-    a = 50.0
-    p = arrays(length_mm=a, width_mm=a, thickness_mm=h)
-    mat = MaterialArrays.of(rubber("neo_hookean", nu=nu, mu_MPa=1.0))
-    du = 1e-7 * h
     Ea = PAD.force(p, mat, np.array([[du]]))[0, 0] / du * h / (a * a)
-    # 5 significant figures plus the 1e-7 strain's non-linearity: 1e-4 relative
-    assert Ea == pytest.approx(Ea_check, rel=1e-4)
+    E0 = 3.0 * 0.5 * sum(m * al for m, al in zip(OGDEN_1972["mu_MPa"], OGDEN_1972["alpha"]))
+    # bulk compliance in series (physics.md sec. 11), B = E/(3(1 - 2 nu))
+    gl = 1.0 / (1.0 / (E0 * (1.0 + 2.0 * S * S)) + 3.0 * (1.0 - 2.0 * 0.4999) / E0)
+    assert 0.0 <= Ea / gl - 1.0 <= 0.15
+
+
+# --------------------------------------------------------------------------- pad vs finite elements
+
+FE_TABLE = Path(__file__).parents[1] / "benchmarks" / "pad_fe_table.csv"
+
+
+def _fe_rows():
+    """Rows of the FE table inside the declared strain and shape-factor range (the table's t is
+    printed to 6 digits, hence the relative slack)."""
+    with open(FE_TABLE) as fh:
+        rows = list(csv.DictReader(fh))
+    return [r for r in rows if float(r["strain"]) <= MODEL_STRAIN_LIMIT * (1 + 1e-6)
+            and shape_factor(*(float(r[k]) for k in ("L_mm", "W_mm", "t_mm"))) <= S_MAX * (1 + 1e-5)]
+
+
+def test_pad_within_3_percent_of_finite_elements_over_declared_range():
+    # Reference: non-linear finite elements of the bonded block (felupe; one eighth, 27-node
+    # hexahedra, mixed u-p-J, the material's own law; meshes graded to the singular bonded
+    # edges; levels 3 and 4 extrapolated, or level 3 corrected by the measured mesh excess),
+    # springsynth._verify.pad_force_fe and tests/benchmarks/fit_pad.py. Catalogue natural
+    # rubber, silicone and TPU; L/W = 1, 2, 4; S = 0.25 ... S_MAX; u/t up to the model limit.
+    # Goal of the kind: within 3 % inside its declared range (measured 2.6 %).
+    rows = _fe_rows()
+    mats = {m: MaterialArrays.of(catalogue()[m]) for m in {r["material"] for r in rows}}
+    worst = 0.0
+    for r in rows:
+        L, W, t, e = (float(r[k]) for k in ("L_mm", "W_mm", "t_mm", "strain"))
+        p = arrays(length_mm=L, width_mm=W, thickness_mm=t)
+        F = PAD.force(p, mats[r["material"]], np.array([[e * t]]))[0, 0]
+        worst = max(worst, abs(F / float(r["F_ref_N"]) - 1.0))
+    assert len(rows) > 300 and worst <= 0.03
+
+
+def test_fe_table_regenerates():
+    # The stored level-3 forces come from springsynth._verify.pad_force_fe: one case re-solved
+    # (natural rubber 20 x 20 x 10, S = 0.5, first two strains of the table). Same code,
+    # same mesh: 1e-6 relative (Newton tolerance).
+    pytest.importorskip("felupe")
+    from springsynth._verify import pad_force_fe
+    rows = [r for r in _fe_rows() if r["material"] == "natural_rubber" and float(r["t_mm"]) == 10.0
+            and float(r["L_mm"]) == 20.0][:2]
+    e = np.array([float(r["strain"]) for r in rows])
+    F = pad_force_fe(20.0, 20.0, 10.0, catalogue()["natural_rubber"], 10.0 * e, n_edge=3)
+    assert F == pytest.approx(np.array([float(r["F_level3_N"]) for r in rows]), rel=1e-6)
