@@ -168,6 +168,7 @@ def in_range(row):
 
 def fit(path=TABLE):
     from scipy.optimize import least_squares
+
     from springsynth.elements import elastomer_pad as ep
     rows = [r for r in load(path) if in_range(r)]
     x0 = [*ep.C_H, *(getattr(ep, k) for k in FITTED[1:])]

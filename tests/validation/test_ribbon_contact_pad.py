@@ -14,7 +14,12 @@ from pathlib import Path
 import numpy as np
 import pytest
 
-from springsynth._materials import Material, MaterialArrays, catalogue, material_from_mapping
+from springsynth._materials import (
+    Material,
+    MaterialArrays,
+    catalogue,
+    material_from_mapping,
+)
 from springsynth.elements import get_kind
 from springsynth.elements.elastomer_pad import (
     MODEL_STRAIN_LIMIT,

@@ -271,7 +271,8 @@ def _quadratic_through(x, f):
 
 
 def homogeneous_factor(L, W, mat):
-    """``c_h(a/b) 3K/(3K + G)``, the factor on the law's uniaxial stress, shape (n,)."""
+    """``h = c_h(a/b) (1 - HOMOGENEOUS_BULK (1 - 2 nu)) 3K/(3K + G)``, the factor on the law's
+    uniaxial stress (see Notes of the module), shape (n,)."""
     lr = np.log(np.maximum(L, W) / np.minimum(L, W))
     c_h = C_H[0] + lr * (C_H[1] + lr * C_H[2])
     G = 0.5 * np.einsum("ij,ij->i", mat.ogden_mu, mat.ogden_alpha)
@@ -281,13 +282,13 @@ def homogeneous_factor(L, W, mat):
 def layer_stress(eps, L, W, t, mat):
     """Pressure part of the nominal stress (MPa) at nominal strains ``eps`` (n, m), point by point.
 
-    ``12 G (b_e/t)^2 eps q Phi(x^2 q, a_e/b_e)`` with ``q = chi(gamma_r)/lambda^2`` (see Notes
-    of the module).
+    ``12 G (b_e/t)^2 eps q Phi(x^2 q, a_e/b_e)`` with ``q = chi(gamma_r)/lambda^THINNING_POWER``
+    (see Notes of the module).
     """
     a, b = np.maximum(L, W) * 0.5, np.minimum(L, W) * 0.5
     G = 0.5 * np.einsum("ij,ij->i", mat.ogden_mu, mat.ogden_alpha)
-    d = EDGE_ZONE * t
-    b_e, a_e = b - d, a - d
+    b_e = np.maximum(b - EDGE_ZONE * t, 0.5 * b)     # the floor acts only far outside the range
+    a_e = a - (b - b_e)
     x2 = (36.0 * (1.0 - 2.0 * mat.nu) / BULK_SCALE) * G / mat.E * (b_e / t) ** 2   # 12 G b_e^2/(K t^2)
     x2 *= 1.0 + BULK_ASPECT * np.log(a / b)
     lam = np.maximum(1.0 - eps, LAMBDA_MIN)
@@ -372,11 +373,11 @@ KIND = ElastomerPad(
     ),
     sources=(
         "R.W. Ogden, Proc. R. Soc. Lond. A 326:565-584, 1972 (uniaxial and simple-shear law of the Ogden series)",
-        "A.N. Gent & P.B. Lindley, Proc. Inst. Mech. Eng. 173:111-122, 1959; A.N. Gent & E.A. Meinecke, "
-        "Polym. Eng. Sci. 10:48-53, 1970 (pressure method of bonded blocks)",
+        ("A.N. Gent & P.B. Lindley, Proc. Inst. Mech. Eng. 173:111-122, 1959; A.N. Gent & E.A. Meinecke, "
+         "Polym. Eng. Sci. 10:48-53, 1970 (pressure method of bonded blocks)"),
         "S.P. Timoshenko & J.N. Goodier, Theory of Elasticity, 3rd ed., 1970, sec. 109 (torsion series of the rectangle)",
-        "compressible layer series, edge zone, finite-strain form and fitted constants: springsynth, "
-        "fitted to felupe finite-element solutions (tests/benchmarks/fit_pad.py)",
+        ("compressible layer series, edge zone, finite-strain form and fitted constants: springsynth, "
+         "fitted to felupe finite-element solutions (tests/benchmarks/fit_pad.py)"),
     ),
     stroke_note="u = compression of the block thickness",
     monotonic_stress=True,
