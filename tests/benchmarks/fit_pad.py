@@ -7,7 +7,8 @@ Not collected by pytest (no ``test_`` prefix). Run::
     python tests/benchmarks/fit_pad.py check      # kernel vs the stored table
 
 Design of experiments: plan width W = 20 mm; plan aspect L/W = 1, 2, 4; thickness t set to
-give shape factors S = LW/(2t(L+W)) of 0.25 ... 2.5 with t <= min(L, W); nominal
+give shape factors S = LW/(2t(L+W)) of 0.25 ... 1.75 with t <= min(L, W) (and one square
+natural rubber pad at S = 2.5, outside the declared range, to see the fit extrapolate); nominal
 compressive strains u/t = 0.002, then 0.0125 ... 0.15 in steps of 0.0125; the catalogue's
 natural rubber (Ogden 1972, nu = 0.4999), silicone (neo-Hookean, nu = 0.4999) and TPU
 (Mooney-Rivlin, nu = 0.49).
@@ -22,8 +23,12 @@ small strain rising to 3 % at u/t = 0.15: the singular bonded edge makes the fin
 convergence slow). Column ``ref`` says which; ``d_spread`` is the largest deviation of
 one subset case's excess from the mean at that strain, the uncertainty of corrected rows.
 
-The fit minimises the relative deviation of the kernel from ``F_ref_N`` over rows with
-u/t <= MODEL_STRAIN_LIMIT (soft-L1 then plain least squares).
+The fit minimises the relative deviation of the kernel from ``F_ref_N`` over the rows inside
+the declared range (u/t <= MODEL_STRAIN_LIMIT, S <= S_MAX; soft-L1, then plain least squares).
+
+The stored table was computed with these functions in pieces (2026-12-02, about 2 hours of
+2 cores; the level-4 run of the square S = 1 rubber pad only to u/t = 0.1, where a rising
+load on the machine made it slow) and assembled with ``build_rows`` and ``write``.
 """
 
 from __future__ import annotations
@@ -43,13 +48,14 @@ import numpy as np
 TABLE = Path(__file__).with_name("pad_fe_table.csv")
 W = 20.0
 ASPECTS = (1.0, 2.0, 4.0)
-S_TARGETS = (0.25, 0.5, 1.0, 1.75, 2.5)   # 2.5: square natural rubber only (outside the range)
+S_TARGETS = (0.25, 0.5, 1.0, 1.75)
+#: cases outside the declared range, solved to see how the fit extrapolates (material, L/W, S)
+BEYOND = (("natural_rubber", 1.0, 2.5),)
 STRAINS = np.r_[0.002, np.arange(1, 13) * 0.0125]
 MATERIALS = ("natural_rubber", "silicone", "tpu")
 #: cases also solved on level 4 (material, L/W, S)
 LEVEL4 = (("natural_rubber", 1.0, 0.5), ("natural_rubber", 1.0, 1.0), ("natural_rubber", 1.0, 1.75),
-          ("tpu", 1.0, 1.75), ("silicone", 2.0, 2.5), ("natural_rubber", 4.0, 1.0),
-          ("natural_rubber", 1.0, 2.5), ("tpu", 2.0, 2.5))
+          ("tpu", 1.0, 1.75), ("natural_rubber", 4.0, 1.0))
 #: module constants of elastomer_pad set by the fit (C_H counts three)
 FITTED = ("C_H", "EDGE_ZONE", "SHEAR_STRAIN_FACTOR", "BULK_SCALE", "THINNING_POWER", "HOMOGENEOUS_POWER", "BULK_ASPECT", "HOMOGENEOUS_BULK")
 COLUMNS = ["material", "L_mm", "W_mm", "t_mm", "strain", "F_level3_N", "F_level4_N", "F_ref_N", "ref", "d_spread"]
@@ -68,7 +74,7 @@ def cases():
             t = L * W / (2.0 * S * (L + W))
             if t <= min(L, W) * (1 + 1e-9):
                 out += [(mid, asp, S, 3) for mid in MATERIALS]
-    return out + [(mid, asp, S, 4) for mid, asp, S in LEVEL4]
+    return out + [(*c, 3) for c in BEYOND] + [(*c, 4) for c in LEVEL4]
 
 
 def solve(case):
