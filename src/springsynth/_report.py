@@ -18,7 +18,6 @@ from __future__ import annotations
 
 import base64
 import html
-import json
 import math
 import re
 from dataclasses import dataclass
@@ -29,8 +28,7 @@ import numpy as np
 import pandas as pd
 
 from ._assembly import Design, Response, evaluate_design
-from ._designio import load_design, read_toml
-from ._errors import InputError
+from ._designio import read_toml
 from ._fileio import write_bytes_atomic, write_text_atomic
 from ._runio import CAUTION, RunFolder, read_run
 from ._study import Study
@@ -64,7 +62,7 @@ def _load(folder: Path | RunFolder, study: Study | None) -> _Run:
     if isinstance(folder, RunFolder):
         run = folder
     elif study is not None and not (Path(folder) / "study.toml").exists():
-        run = _read_without_study(Path(folder))
+        run = read_run(Path(folder), with_study=False)
     else:
         run = read_run(Path(folder))
     path = run.path
@@ -72,17 +70,6 @@ def _load(folder: Path | RunFolder, study: Study | None) -> _Run:
         study = run.study()
     raw = read_toml(path / "study.toml") if (path / "study.toml").exists() else dict(study.raw)
     return _Run(path, run.meta, run.table, run.designs, study, raw)
-
-
-def _read_without_study(path: Path) -> RunFolder:
-    """A run folder written from a study that has no file (built in code): the caller gives the study."""
-    for need in ("run.json", "pareto.csv"):
-        if not (path / need).exists():
-            raise InputError(f"is not a complete run folder: {need} is missing", where=str(path))
-    meta = json.loads((path / "run.json").read_text(encoding="utf-8"))
-    table = pd.read_csv(path / "pareto.csv")
-    designs = tuple(load_design(path / "designs" / f"{i}.toml") for i in table.get("design_id", []))
-    return RunFolder(path, meta, table, designs)
 
 
 def _feasible(table: pd.DataFrame) -> np.ndarray:

@@ -136,11 +136,13 @@ def _toml_str(s: str) -> str:
     return s.replace("\\", "\\\\").replace('"', '\\"')
 
 
-def read_run(path: Path) -> RunFolder:
+def read_run(path: Path, *, with_study: bool = True) -> RunFolder:
+    """The run folder at ``path``; ``with_study=False`` accepts a folder written from a study
+    built in code (no study.toml or target.csv: the caller supplies the study)."""
     path = Path(path)
     if not path.is_dir():
         raise InputError("is not a run folder (expected a folder written by `springsynth run`)", where=str(path))
-    for need in ("run.json", "pareto.csv", "study.toml", "target.csv"):
+    for need in ("run.json", "pareto.csv") + (("study.toml", "target.csv") if with_study else ()):
         if not (path / need).exists():
             raise InputError(f"is not a complete run folder: {need} is missing", where=str(path))
     try:

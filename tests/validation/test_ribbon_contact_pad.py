@@ -21,11 +21,11 @@ from springsynth._materials import (
     material_from_mapping,
 )
 from springsynth.elements import get_kind
+from springsynth.elements._stretching import ogden_uniaxial_nominal
 from springsynth.elements.elastomer_pad import (
     MODEL_STRAIN_LIMIT,
     S_MAX,
     ogden_shear_secant,
-    ogden_uniaxial_stress,
     pressure_factor,
     shape_factor,
     torsion_coefficient,
@@ -123,7 +123,7 @@ TRELOAR = [
 
 def _uniaxial(material, lam):
     mat = MaterialArrays.of(material)
-    return ogden_uniaxial_stress(np.atleast_2d(np.asarray(lam, dtype=float)), mat.ogden_mu, mat.ogden_alpha)[0]
+    return ogden_uniaxial_nominal(np.atleast_2d(np.asarray(lam, dtype=float)), mat.ogden_mu, mat.ogden_alpha)[0]
 
 
 def test_ogden_1972_reproduces_treloar_loosely():

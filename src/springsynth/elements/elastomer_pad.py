@@ -85,6 +85,7 @@ from __future__ import annotations
 import numpy as np
 
 from ._base import DENSITY_TO_G_PER_MM3, ElementKind, Param
+from ._stretching import ogden_uniaxial_nominal
 
 #: homogeneous share c_h = C_H[0] + C_H[1] ln(a/b) + C_H[2] ln(a/b)^2 (fitted, see Notes)
 C_H = (1.1233, 0.0916, 0.0300)
@@ -120,50 +121,6 @@ EPS_NODES = tuple(0.5 * MODEL_STRAIN_LIMIT * (1.0 - np.cos(np.pi * (2 * k + 1) /
 LAMBDA_MIN = 0.05
 #: odd orders n of the end correction of the pressure series (terms fall as n^-5)
 _N_ODD = (1.0, 3.0, 5.0, 7.0, 9.0)
-
-
-def ogden_uniaxial_stress(lam, mu, alpha, power=0.0):
-    """Incompressible uniaxial nominal stress of an Ogden series, MPa (tension positive).
-
-    Parameters
-    ----------
-    lam : ndarray, shape (n, m)
-        Stretch, > 0.
-    mu, alpha : ndarray, shape (n, k)
-        Ogden moduli (MPa) and exponents per row; terms with mu = 0 add nothing.
-    power : float
-        Optional extra factor ``lam^power`` (folded into the last step).
-
-    Returns
-    -------
-    P : ndarray, shape (n, m)
-        ``sum_p mu_p (lam^(alpha_p - 1) - lam^(-alpha_p/2 - 1))`` (times ``lam^power``).
-
-    Notes
-    -----
-    Evaluated as ``sum_p mu_p (q_p^-2 - q_p) / lam`` with ``q_p = lam^(-alpha_p/2)``:
-    one exponential per term. Columns whose mu is zero for the whole population are
-    skipped.
-    """
-    ln = np.log(lam)
-    acc = np.zeros_like(lam)
-    q = np.empty_like(lam)
-    w = np.empty_like(lam)
-    for k in range(mu.shape[1]):
-        muk = mu[:, k]
-        if not muk.any():
-            continue
-        np.multiply(ln, (-0.5 * alpha[:, k])[:, None], out=q)
-        np.exp(q, out=q)                      # q = lam^(-alpha/2)
-        np.multiply(q, q, out=w)
-        np.reciprocal(w, out=w)               # lam^alpha
-        np.subtract(w, q, out=w)
-        np.multiply(w, muk[:, None], out=w)
-        np.add(acc, w, out=acc)
-    if power:
-        np.multiply(ln, power - 1.0, out=q)
-        return np.multiply(acc, np.exp(q, out=q), out=acc)
-    return np.divide(acc, lam, out=acc)
 
 
 def shape_factor(L, W, t):
@@ -213,6 +170,11 @@ def pressure_factor(x2, r):
     return strip - end * (8.0 / np.pi**2) / r
 
 
+def small_strain_shear_modulus(mu, alpha):
+    """``G = sum_p mu_p alpha_p / 2`` of an Ogden series, MPa, shape (n,)."""
+    return 0.5 * np.einsum("ij,ij->i", mu, alpha)
+
+
 def ogden_shear_secant(gamma, mu, alpha):
     """Secant shear modulus ``tau/gamma`` of an Ogden series in simple shear, MPa.
 
@@ -237,7 +199,7 @@ def ogden_shear_secant(gamma, mu, alpha):
     """
     linear = (np.abs(np.abs(alpha) - 2.0) < 1e-12) | (mu == 0.0)
     out = np.empty_like(gamma)
-    out[...] = (0.5 * np.einsum("ij,ij->i", mu, alpha))[:, None]
+    out[...] = small_strain_shear_modulus(mu, alpha)[:, None]
     rows = np.flatnonzero(~linear.all(axis=1))
     if rows.size == 0:
         return out
@@ -275,7 +237,7 @@ def homogeneous_factor(L, W, mat):
     uniaxial stress (see Notes of the module), shape (n,)."""
     lr = np.log(np.maximum(L, W) / np.minimum(L, W))
     c_h = C_H[0] + lr * (C_H[1] + lr * C_H[2])
-    G = 0.5 * np.einsum("ij,ij->i", mat.ogden_mu, mat.ogden_alpha)
+    G = small_strain_shear_modulus(mat.ogden_mu, mat.ogden_alpha)
     return c_h * (1.0 - HOMOGENEOUS_BULK * (1.0 - 2.0 * mat.nu)) / (1.0 + G * (1.0 - 2.0 * mat.nu) / mat.E)
 
 
@@ -286,7 +248,7 @@ def layer_stress(eps, L, W, t, mat):
     (see Notes of the module).
     """
     a, b = np.maximum(L, W) * 0.5, np.minimum(L, W) * 0.5
-    G = 0.5 * np.einsum("ij,ij->i", mat.ogden_mu, mat.ogden_alpha)
+    G = small_strain_shear_modulus(mat.ogden_mu, mat.ogden_alpha)
     b_e = np.maximum(b - EDGE_ZONE * t, 0.5 * b)     # the floor acts only far outside the range
     a_e = a - (b - b_e)
     x2 = (36.0 * (1.0 - 2.0 * mat.nu) / BULK_SCALE) * G / mat.E * (b_e / t) ** 2   # 12 G b_e^2/(K t^2)
@@ -306,8 +268,8 @@ def nominal_stress(eps, L, W, t, mat):
     """
     lam = np.maximum(1.0 - eps, LAMBDA_MIN)
     # series with negated moduli = compressive nominal stress, positive
-    homogeneous = ogden_uniaxial_stress(lam, -mat.ogden_mu, mat.ogden_alpha, HOMOGENEOUS_POWER)
-    homogeneous *= homogeneous_factor(L, W, mat)[:, None]
+    homogeneous = ogden_uniaxial_nominal(lam, -mat.ogden_mu, mat.ogden_alpha)
+    homogeneous *= lam**HOMOGENEOUS_POWER * homogeneous_factor(L, W, mat)[:, None]
     return homogeneous + layer_stress(eps, L, W, t, mat)
 
 
