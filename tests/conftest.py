@@ -7,8 +7,8 @@ from pathlib import Path
 import numpy as np
 import pytest
 
-from springsynth._assembly import Design, Element
-from springsynth._materials import catalogue
+from springsynth.assembly.design import Design, Element
+from springsynth.model.materials import catalogue
 
 ROOT = Path(__file__).resolve().parents[1]
 

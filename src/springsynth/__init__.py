@@ -42,17 +42,17 @@ __all__ = [
 ]
 
 _HOME = {
-    "Design": "._assembly", "Element": "._assembly", "Envelope": "._assembly", "Response": "._assembly",
-    "evaluate_design": "._assembly", "design_to_toml": "._designio", "load_design": "._designio",
-    "InputError": "._errors", "Material": "._materials", "catalogue": "._materials", "Study": "._study",
-    "load_study": "._study", "Synthesis": "._synthesis", "synthesize": "._synthesis", "Target": "._target",
-    "load_target": "._target", "ElementKind": ".elements", "Param": ".elements", "registry": ".elements",
+    "Design": "springsynth.assembly.design", "Element": "springsynth.assembly.design", "Envelope": "springsynth.model.study", "Response": "springsynth.assembly.evaluate",
+    "evaluate_design": "springsynth.assembly.evaluate", "design_to_toml": "springsynth.io.design_toml", "load_design": "springsynth.io.design_toml",
+    "InputError": "springsynth.model.errors", "Material": "springsynth.model.materials", "catalogue": "springsynth.model.materials", "Study": "springsynth.model.study",
+    "load_study": "springsynth.io.study_toml", "Synthesis": "springsynth.search.synthesis", "synthesize": "springsynth.search.synthesis", "Target": "springsynth.model.target",
+    "load_target": "springsynth.io.target_csv", "ElementKind": "springsynth.elements", "Param": "springsynth.elements", "registry": "springsynth.elements",
 }
 
 
 def __getattr__(name: str):
     if name in _HOME:
-        return getattr(importlib.import_module(_HOME[name], __name__), name)
+        return getattr(importlib.import_module(_HOME[name]), name)
     raise AttributeError(f"module 'springsynth' has no attribute {name!r}")
 
 

@@ -15,7 +15,7 @@ from rich.console import Console
 from rich.markup import escape
 from rich.table import Table
 
-from ._errors import InputError
+from springsynth.model.errors import InputError
 
 app = typer.Typer(add_completion=False, no_args_is_help=True, pretty_exceptions_enable=False,
                   help="springsynth: from a target force-displacement curve to Pareto-optimal springs and flexures.")
@@ -41,7 +41,7 @@ def _guard(fn):
 
 
 def _caution():
-    from ._runio import CAUTION
+    from springsynth.io.runfolder import CAUTION
 
     out.print(f"[dim]Caution: {CAUTION}[/]", soft_wrap=True)
 
@@ -66,9 +66,9 @@ def evaluate(
     """Forward model of one design: force and stress ratio along the stroke."""
     import numpy as np
 
-    from ._assembly import evaluate_design
-    from ._designio import load_design
-    from ._target import load_target
+    from springsynth.assembly.evaluate import evaluate_design
+    from springsynth.io.design_toml import load_design
+    from springsynth.io.target_csv import load_target
 
     d = load_design(design)
     target = None
@@ -103,12 +103,12 @@ def evaluate(
     if not r.finite[0]:
         outside["numerical"] = math.inf
     if out_csv is not None:
-        from ._fileio import write_text_atomic
+        from springsynth.io.files import write_text_atomic
 
         write_text_atomic(out_csv, frame.to_csv(index=False, float_format="%.8g", lineterminator="\n"))
         out.print(f"wrote {out_csv}")
     if plot is not None:
-        from ._plots import plot_design, save
+        from springsynth.report.plots import plot_design, save
 
         save(plot_design(d, r, target=target, title=f"{d.name}: {len(d.elements)} element(s) in parallel"), plot)
         out.print(f"wrote {plot}")
@@ -133,7 +133,7 @@ def _evaluation_frame(d, r):
 @_guard
 def elements(fmt: Fmt = typer.Option(Fmt.table, "--format", help="table or csv")):
     """The element kinds: parameters, bounds, validity and sources."""
-    from .elements import registry
+    from springsynth.elements import registry
 
     rows = []
     for k in registry().values():
@@ -171,8 +171,8 @@ def materials(fmt: Fmt = typer.Option(Fmt.table, "--format", help="table or csv"
 
     import pandas as pd
 
-    from ._materials import catalogue
-    from .elements import registry
+    from springsynth.model.materials import catalogue
+    from springsynth.elements import registry
 
     rows = []
     for m in catalogue().values():
@@ -209,9 +209,9 @@ def _num(v: float) -> str:
 @_guard
 def check(file: Path = typer.Argument(..., help="a target CSV, a study TOML or a design TOML")):
     """Validate a target, study or design file and say what is wrong."""
-    from ._designio import load_design, read_toml
-    from ._study import load_study
-    from ._target import load_target
+    from springsynth.io.design_toml import load_design, read_toml
+    from springsynth.io.study_toml import load_study
+    from springsynth.io.target_csv import load_target
 
     if file.suffix.lower() == ".csv":
         t = load_target(file)
@@ -236,7 +236,7 @@ def check(file: Path = typer.Argument(..., help="a target CSV, a study TOML or a
 def _progress_runner(study, **kw):
     from rich.progress import BarColumn, MofNCompleteColumn, Progress, TextColumn, TimeElapsedColumn
 
-    from ._synthesis import synthesize
+    from springsynth.search.synthesis import synthesize
 
     cols = [TextColumn("generation"), MofNCompleteColumn(), BarColumn(), TextColumn("{task.fields[info]}"),
             TimeElapsedColumn()]
@@ -295,8 +295,8 @@ def run(
     Ctrl-C (or SIGTERM) finishes the current generation, saves the results so far
     (marked partial) with a checkpoint, and exits 130; `--resume RUN` continues it.
     """
-    from ._runio import read_run, write_run
-    from ._study import load_study
+    from springsynth.io.runfolder import read_run, write_run
+    from springsynth.io.study_toml import load_study
 
     if (study is None) == (resume is None):
         raise InputError("give a STUDY file, or --resume RUN to continue an interrupted run", where="run")
@@ -370,7 +370,7 @@ def rerun(
     seed: Optional[int] = typer.Option(None, "--seed", min=0),
 ):
     """The same study with settings changed, warm-started from the run's Pareto designs."""
-    from ._runio import read_run, write_run
+    from springsynth.io.runfolder import read_run, write_run
 
     parent = read_run(run_dir)
     st = parent.study(set_)
@@ -387,8 +387,8 @@ def rerun(
 @_guard
 def report(run_dir: Path = typer.Argument(..., help="a run folder written by `springsynth run`")):
     """Rebuild a run folder's figures and self-contained report.html from its files (no new search)."""
-    from ._report import build_report
-    from ._runio import read_run
+    from springsynth.report.html import build_report
+    from springsynth.io.runfolder import read_run
 
     path = build_report(read_run(run_dir))
     out.print(f"wrote {path}")
@@ -401,7 +401,7 @@ def _stroke_points(at, to, points, where):
     """Stroke points from --at TARGET.csv or --to X (with --points N); returns (x, target or None)."""
     import numpy as np
 
-    from ._target import load_target
+    from springsynth.io.target_csv import load_target
 
     if at is not None and to is not None:
         raise InputError("give either --at TARGET.csv or --to X, not both", where=where)
@@ -430,11 +430,11 @@ def verify(
     import numpy as np
     import pandas as pd
 
-    from ._verify import THRESHOLD_PCT, verify_design
+    from springsynth.checks.verify import THRESHOLD_PCT, verify_design
 
     if path.is_dir():
-        from ._fileio import write_text_atomic
-        from ._runio import read_run
+        from springsynth.io.files import write_text_atomic
+        from springsynth.io.runfolder import read_run
 
         if at is not None or to is not None:
             raise InputError("a run is verified over its own target stroke; drop --at/--to", where="verify")
@@ -451,7 +451,7 @@ def verify(
         dest = path / "verification.csv"
         write_text_atomic(dest, frame.to_csv(index=False, float_format="%.6g", lineterminator="\n"))
     else:
-        from ._designio import load_design
+        from springsynth.io.design_toml import load_design
 
         d = load_design(path)
         x, target = _stroke_points(at, to, points, "verify")
@@ -499,9 +499,9 @@ def tolerance(
     seed: int = typer.Option(0, "--seed", min=0),
 ):
     """Monte Carlo over manufacturing tolerances: force band, share of parts in spec, sensitivities."""
-    from ._designio import load_design
-    from ._fileio import new_folder
-    from ._tolerance import tolerance_analysis, write_tolerance
+    from springsynth.io.design_toml import load_design
+    from springsynth.io.files import new_folder
+    from springsynth.checks.tolerance import tolerance_analysis, write_tolerance
 
     d = load_design(design)
     x, target = _stroke_points(at, to, points, "tolerance")
@@ -528,7 +528,7 @@ def tolerance(
 
 
 def main():  # console-script entry point
-    from ._allocator import keep_temporaries_on_heap
+    from springsynth._allocator import keep_temporaries_on_heap
 
     keep_temporaries_on_heap()
     app()

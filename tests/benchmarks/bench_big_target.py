@@ -19,7 +19,7 @@ from pathlib import Path
 
 import numpy as np
 
-from springsynth._target import load_target
+from springsynth.io.target_csv import load_target
 
 
 def main() -> None:

@@ -22,8 +22,9 @@ import time
 import numpy as np
 
 from springsynth._allocator import keep_temporaries_on_heap
-from springsynth._assembly import Slots, evaluate_population
-from springsynth._materials import catalogue
+from springsynth.assembly.slots import Slots
+from springsynth.assembly.evaluate import evaluate_population
+from springsynth.model.materials import catalogue
 from springsynth.elements import registry
 
 

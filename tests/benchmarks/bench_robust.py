@@ -5,7 +5,7 @@ is searched twice with the same seed and budget, once with the nominal curve err
 objective and once with the 90th-percentile error over k fixed tolerance samples (--k). From
 each Pareto set the design with the lowest value of the curve-error objective that run
 minimised is taken (nominal, or 90th-percentile), and a 4000-part Monte Carlo
-(:func:`springsynth._tolerance.tolerance_analysis`) measures its share of parts inside
+(:func:`springsynth.checks.tolerance.tolerance_analysis`) measures its share of parts inside
 the band. GA outcomes are noisy: run several seeds (``--seeds``) and compare medians.
 
 Run:  python tests/benchmarks/bench_robust.py [--seeds 1 2 3] [--generations 40]
@@ -21,11 +21,11 @@ from pathlib import Path
 
 import numpy as np
 
-from springsynth._assembly import evaluate_design
-from springsynth._study import load_study
-from springsynth._synthesis import synthesize
-from springsynth._assembly import Slots
-from springsynth._tolerance import robust_error, tolerance_analysis
+from springsynth.assembly.evaluate import evaluate_design
+from springsynth.io.study_toml import load_study
+from springsynth.search.synthesis import synthesize
+from springsynth.assembly.slots import Slots
+from springsynth.checks.tolerance import robust_error, tolerance_analysis
 
 STUDY = """name = "bench-robust"
 [target]
@@ -67,7 +67,7 @@ def main():
     ap.add_argument("--samples", type=int, default=4000)
     ap.add_argument("--k", type=int, default=32, help="tolerance samples per design in the robust objective")
     a = ap.parse_args()
-    import springsynth._tolerance as tol_mod
+    import springsynth.checks.tolerance as tol_mod
 
     d = list(tol_mod.robust_error.__defaults__)
     d[0] = a.k

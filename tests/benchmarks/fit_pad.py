@@ -14,7 +14,7 @@ natural rubber (Ogden 1972, nu = 0.4999), silicone (neo-Hookean, nu = 0.4999) an
 (Mooney-Rivlin, nu = 0.49).
 
 Reference value per row (column ``F_ref_N``): every case is solved on mesh level 3 of
-``springsynth._verify.pad_force_fe``; a subset also on level 4 (column ``F_level4_N``).
+``springsynth.checks.verify.pad_force_fe``; a subset also on level 4 (column ``F_level4_N``).
 Where both exist the reference is the first-order extrapolation 4 F_4 - 3 F_3 (as
 ``springsynth verify`` does; see the mesh study in ``pad_force_fe``: -0.33 % at u/t = 0.002,
 +0.07 % at u/t = 0.1 against a three-level limit). Elsewhere it is F_3 / (1 + d(eps)), with
@@ -62,7 +62,7 @@ COLUMNS = ["material", "L_mm", "W_mm", "t_mm", "strain", "F_level3_N", "F_level4
 
 
 def _material(mid):
-    from springsynth._materials import catalogue
+    from springsynth.model.materials import catalogue
     return catalogue()[mid]
 
 
@@ -79,7 +79,7 @@ def cases():
 
 def solve(case):
     """Forces on one mesh level at the strains of STRAINS (as many as the FE reaches)."""
-    from springsynth._verify import pad_force_fe
+    from springsynth.checks.verify import pad_force_fe
     mid, asp, S, level = case
     L = asp * W
     t = L * W / (2.0 * S * (L + W))
@@ -145,7 +145,7 @@ def load(path=TABLE):
 
 def kernel_force(row, constants=None):
     """Kernel force for one table row (optionally with other constants)."""
-    from springsynth._materials import MaterialArrays
+    from springsynth.model.materials import MaterialArrays
     from springsynth.elements import elastomer_pad as ep
     saved = {k: getattr(ep, k) for k in FITTED}
     if constants is not None:

@@ -11,9 +11,9 @@ import numpy as np
 import pytest
 from typer.testing import CliRunner
 
-from springsynth._runio import read_run, write_run
-from springsynth._study import load_study
-from springsynth._synthesis import synthesize
+from springsynth.io.runfolder import read_run, write_run
+from springsynth.io.study_toml import load_study
+from springsynth.search.synthesis import synthesize
 from springsynth.cli import app
 from tests.conftest import write_study, write_target
 

@@ -7,11 +7,12 @@ import pandas as pd
 import pytest
 from typer.testing import CliRunner
 
-from springsynth._assembly import Design, Element, evaluate_design
-from springsynth._designio import load_design
-from springsynth._materials import catalogue
-from springsynth._study import load_study
-from springsynth._synthesis import synthesize
+from springsynth.assembly.design import Design, Element
+from springsynth.assembly.evaluate import evaluate_design
+from springsynth.io.design_toml import load_design
+from springsynth.model.materials import catalogue
+from springsynth.io.study_toml import load_study
+from springsynth.search.synthesis import synthesize
 from springsynth.cli import app
 from tests.conftest import write_study, write_target
 

@@ -21,7 +21,7 @@ from pathlib import Path
 
 import pytest
 
-from springsynth._errors import InputError
+from springsynth.model.errors import InputError
 
 CORPUS = Path(__file__).resolve().parents[1] / "corpus"
 INDEX = tomllib.loads((CORPUS / "expected.toml").read_text(encoding="utf-8"))
@@ -133,7 +133,7 @@ def test_unreadable_target_file(tmp_path):
 
 def test_unreadable_target_file_in_process(tmp_path, monkeypatch):
     """Same fault without file permissions (root): the reader turns any OSError into InputError."""
-    from springsynth._target import load_target
+    from springsynth.io.target_csv import load_target
 
     p = tmp_path / "locked.csv"
     p.write_text("displacement_mm,force_N\n0,0\n1,1\n2,2\n")
@@ -148,7 +148,7 @@ def test_unreadable_target_file_in_process(tmp_path, monkeypatch):
 
 def test_study_target_path_through_a_file(tmp_path):
     """``file = "t.csv/x.csv"`` (a file used as a folder) and a NUL byte in the path."""
-    from springsynth._study import load_study
+    from springsynth.io.study_toml import load_study
 
     (tmp_path / "t.csv").write_text("displacement_mm,force_N\n0,1\n1,2\n2,3\n")
     body = (CORPUS / "studies" / "valid.toml").read_text()

@@ -27,12 +27,14 @@ import pytest
 from hypothesis import given, settings
 from hypothesis import strategies as st
 
-from springsynth._assembly import Slots, evaluate_population
-from springsynth._designio import design_from_mapping, read_toml
-from springsynth._errors import InputError
-from springsynth._materials import catalogue
-from springsynth._study import study_from_mapping
-from springsynth._target import Target, load_target
+from springsynth.assembly.slots import Slots
+from springsynth.assembly.evaluate import evaluate_population
+from springsynth.io.design_toml import design_from_mapping, read_toml
+from springsynth.model.errors import InputError
+from springsynth.model.materials import catalogue
+from springsynth.io.study_toml import study_from_mapping
+from springsynth.model.target import Target
+from springsynth.io.target_csv import load_target
 from springsynth.elements import registry
 
 from tests.robustness.conftest import FUZZ, examples
@@ -245,7 +247,7 @@ def test_design_mapping_raises_only_input_error(doc):
 
 
 def _toml_text(doc) -> str:
-    from springsynth._designio import _fmt
+    from springsynth.io.design_toml import _fmt
 
     lines, tables = [], []
     for k, v in doc.items():
@@ -372,7 +374,7 @@ def test_absurd_stroke_is_flagged_not_raised():
                           "negative index; the assembly keeps such strokes away from kernels", raises=IndexError,
                    strict=False)
 def test_arch_kernel_absurd_stroke():
-    from springsynth._materials import MaterialArrays
+    from springsynth.model.materials import MaterialArrays
 
     kind, mats = _arch()
     p = {q.name: np.array([v]) for q, v in zip(kind.params, (5.0, 1.0, 1.0, 1.0))}

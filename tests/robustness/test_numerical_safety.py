@@ -21,8 +21,9 @@ import warnings
 import numpy as np
 import pytest
 
-from springsynth._assembly import Slots, envelope_margins, evaluate_design, evaluate_population
-from springsynth._materials import Material, MaterialArrays, catalogue
+from springsynth.assembly.slots import Slots
+from springsynth.assembly.evaluate import envelope_margins, evaluate_design, evaluate_population
+from springsynth.model.materials import Material, MaterialArrays, catalogue
 from springsynth.elements import registry
 
 KINDS = sorted(registry())
@@ -228,8 +229,8 @@ CASES = [
 
 @pytest.mark.parametrize("kinds, materials, seed, x, law", CASES)
 def test_feasible_designs_recompute_feasible(tmp_path, kinds, materials, seed, x, law):
-    from springsynth._study import load_study
-    from springsynth._synthesis import synthesize
+    from springsynth.io.study_toml import load_study
+    from springsynth.search.synthesis import synthesize
 
     kinds = tuple(k for k in kinds if k in registry())
     st = load_study(_write_study(tmp_path, kinds, materials, seed, x, law(x)))

@@ -7,7 +7,7 @@ import numpy as np
 import pytest
 from typer.testing import CliRunner
 
-import springsynth._fileio as fileio
+import springsynth.io.files as fileio
 from springsynth.cli import app
 from tests.conftest import write_study, write_target
 

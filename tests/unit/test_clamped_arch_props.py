@@ -5,7 +5,7 @@ from __future__ import annotations
 import numpy as np
 import pytest
 
-from springsynth._materials import MaterialArrays, material_from_mapping
+from springsynth.model.materials import MaterialArrays, material_from_mapping
 from springsynth.elements import get_kind, kind_names
 
 BLADE = get_kind("blade_clamped")

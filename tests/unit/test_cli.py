@@ -6,7 +6,7 @@ import sys
 import pandas as pd
 from typer.testing import CliRunner
 
-from springsynth._designio import design_to_toml
+from springsynth.io.design_toml import design_to_toml
 from springsynth.cli import app
 from tests.conftest import blade, design
 

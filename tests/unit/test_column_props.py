@@ -7,7 +7,7 @@ import math
 import numpy as np
 import pytest
 
-from springsynth._materials import Material, MaterialArrays
+from springsynth.model.materials import Material, MaterialArrays
 from springsynth.elements import get_kind, kind_names
 
 COLUMN = get_kind("column")

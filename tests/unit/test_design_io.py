@@ -3,9 +3,9 @@
 import numpy as np
 import pytest
 
-from springsynth._assembly import evaluate_design
-from springsynth._designio import design_to_toml, load_design
-from springsynth._errors import InputError
+from springsynth.assembly.evaluate import evaluate_design
+from springsynth.io.design_toml import design_to_toml, load_design
+from springsynth.model.errors import InputError
 from tests.conftest import blade, design
 
 GOOD = """

@@ -11,8 +11,8 @@ import math
 import numpy as np
 import pytest
 
-from springsynth._errors import InputError
-from springsynth._materials import N_OGDEN, MaterialArrays, catalogue, material_from_mapping
+from springsynth.model.errors import InputError
+from springsynth.model.materials import N_OGDEN, MaterialArrays, catalogue, material_from_mapping
 
 # DESIGN.md, "Element kinds", materials paragraph
 DESIGN_IDS = (

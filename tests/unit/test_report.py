@@ -12,9 +12,9 @@ import pandas as pd
 import pytest
 from typer.testing import CliRunner
 
-from springsynth._plots import knee_index, plot_pareto, representatives
-from springsynth._report import build_report
-from springsynth._runio import CAUTION, read_run
+from springsynth.report.plots import knee_index, plot_pareto, representatives
+from springsynth.report.html import build_report
+from springsynth.io.runfolder import CAUTION, read_run
 from springsynth.cli import app
 from tests.conftest import write_study, write_target
 

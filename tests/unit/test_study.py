@@ -2,8 +2,8 @@
 
 import pytest
 
-from springsynth._errors import InputError
-from springsynth._study import apply_overrides, load_study
+from springsynth.model.errors import InputError
+from springsynth.io.study_toml import apply_overrides, load_study
 
 
 def test_defaults_and_relative_target(linear_study):

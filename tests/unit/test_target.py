@@ -3,8 +3,9 @@
 import numpy as np
 import pytest
 
-from springsynth._errors import InputError
-from springsynth._target import MAX_POINTS, load_target, target_from_arrays
+from springsynth.model.errors import InputError
+from springsynth.io.target_csv import MAX_POINTS, load_target
+from springsynth.model.target import target_from_arrays
 
 
 def _w(tmp_path, text, name="t.csv"):

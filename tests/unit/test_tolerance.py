@@ -1,4 +1,4 @@
-"""Tolerance analysis (springsynth._tolerance): statistics, vectorisation, robust scoring, command line."""
+"""Tolerance analysis (springsynth.checks.tolerance): statistics, vectorisation, robust scoring, command line."""
 
 from __future__ import annotations
 
@@ -8,9 +8,9 @@ import numpy as np
 import pytest
 from typer.testing import CliRunner
 
-from springsynth import _tolerance as T
-from springsynth._assembly import Slots
-from springsynth._target import target_from_arrays
+from springsynth.checks import tolerance as T
+from springsynth.assembly.slots import Slots
+from springsynth.model.target import target_from_arrays
 from springsynth.cli import app
 
 from tests.conftest import blade, design, write_target
@@ -75,7 +75,7 @@ def test_process_override_and_bad_input():
 
 
 def test_robust_error_deterministic_and_vectorised(linear_study):
-    from springsynth._study import load_study
+    from springsynth.io.study_toml import load_study
 
     st = load_study(linear_study)
     d1 = design(blade(count=1), name="a")
@@ -84,15 +84,15 @@ def test_robust_error_deterministic_and_vectorised(linear_study):
     e1 = T.robust_error(st, slots, n_samples=8)
     e2 = T.robust_error(st, slots, n_samples=8)
     assert e1.shape == (2,) and np.array_equal(e1, e2)
-    from springsynth._assembly import evaluate_population
+    from springsynth.assembly.evaluate import evaluate_population
 
     nominal = st.target.curve_error_pct(evaluate_population(slots, st.target.x_mm).force_N)
     assert np.all(np.isfinite(e1)) and np.all(e1 >= nominal * 0.5)
 
 
 def test_score_uses_robust_error_when_asked(tmp_path):
-    from springsynth._problem import score
-    from springsynth._study import load_study
+    from springsynth.search.scoring import score
+    from springsynth.io.study_toml import load_study
     from tests.conftest import write_study
 
     x = np.linspace(0, 6, 13)

@@ -14,7 +14,7 @@ import pytest
 from scipy.integrate import quad, solve_bvp
 from scipy.optimize import brentq, minimize
 
-from springsynth._materials import MaterialArrays, material_from_mapping
+from springsynth.model.materials import MaterialArrays, material_from_mapping
 from springsynth.elements import arch as arch_mod
 from springsynth.elements import get_kind
 

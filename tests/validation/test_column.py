@@ -25,7 +25,7 @@ from scipy.integrate import solve_bvp
 from scipy.optimize import brentq
 from scipy.special import ellipe, ellipk
 
-from springsynth._materials import MaterialArrays, material_from_mapping
+from springsynth.model.materials import MaterialArrays, material_from_mapping
 from springsynth.elements import get_kind
 
 COLUMN = get_kind("column")

@@ -15,7 +15,7 @@ import pytest
 from scipy.integrate import solve_bvp
 from scipy.optimize import brentq
 
-from springsynth._materials import Material, MaterialArrays
+from springsynth.model.materials import Material, MaterialArrays
 from springsynth.elements import _elastica, get_kind
 
 # Model requirement of the project: at most 2 % from the exact elastica ...

@@ -27,7 +27,7 @@ import pytest
 from scipy.integrate import solve_bvp
 from scipy.interpolate import CubicSpline
 
-from springsynth._materials import MaterialArrays, catalogue, material_from_mapping
+from springsynth.model.materials import MaterialArrays, catalogue, material_from_mapping
 from springsynth.elements import blade_clamped as bc_mod
 from springsynth.elements import get_kind
 
@@ -245,8 +245,8 @@ def test_showcase_elastomer_blade_cancellation_figure():
     # studies/elastomer-blade.design.toml: natural rubber strip L 30, b 8, t 0.5 pressed to
     # 13.5 mm (delta/L = 0.45). The figures quoted in its comment block, measured here against
     # the elastica with the Ogden (1972) law and with a linear law of the same small-strain modulus.
-    from springsynth._assembly import evaluate_design
-    from springsynth._designio import load_design
+    from springsynth.assembly.evaluate import evaluate_design
+    from springsynth.io.design_toml import load_design
 
     design = load_design(ROOT / "studies" / "elastomer-blade.design.toml")
     (el,) = design.elements

@@ -14,7 +14,7 @@ import math
 import numpy as np
 import pytest
 
-from springsynth._materials import MaterialArrays, material_from_mapping
+from springsynth.model.materials import MaterialArrays, material_from_mapping
 from springsynth.elements import get_kind
 from springsynth.elements.helical_compression import (
     bergstrasser_factor,

@@ -14,7 +14,7 @@ from pathlib import Path
 import numpy as np
 import pytest
 
-from springsynth._materials import (
+from springsynth.model.materials import (
     Material,
     MaterialArrays,
     catalogue,
@@ -248,7 +248,7 @@ def test_gent_lindley_apparent_modulus_small_strain(S):
     # physics.md sec. 11: E_a = E (1 + 2 S^2) for bonded square blocks (Gent & Lindley 1959),
     # a design rule with beta rounded down from the pressure method's 2.25. The kernel, fitted
     # to finite elements, lies above it: FE gives 3.354 E at S = 1 (+11.8 %, mesh study in
-    # springsynth._verify.pad_force_fe). Natural rubber law (Ogden 1972), nu = 0.4999,
+    # springsynth.checks.verify.pad_force_fe). Natural rubber law (Ogden 1972), nu = 0.4999,
     # square 50 x 50, small strain. Expected: 0 to +15 % above Gent & Lindley.
     a = 50.0
     h = a / (4.0 * S)
@@ -280,7 +280,7 @@ def test_pad_within_3_percent_of_finite_elements_over_declared_range():
     # Reference: non-linear finite elements of the bonded block (felupe; one eighth, 27-node
     # hexahedra, mixed u-p-J, the material's own law; meshes graded to the singular bonded
     # edges; levels 3 and 4 extrapolated, or level 3 corrected by the measured mesh excess),
-    # springsynth._verify.pad_force_fe and tests/benchmarks/fit_pad.py. Catalogue natural
+    # springsynth.checks.verify.pad_force_fe and tests/benchmarks/fit_pad.py. Catalogue natural
     # rubber, silicone and TPU; L/W = 1, 2, 4; S = 0.25 ... S_MAX; u/t up to the model limit.
     # Goal of the kind: within 3 % inside its declared range (measured 2.6 %).
     rows = _fe_rows()
@@ -295,11 +295,11 @@ def test_pad_within_3_percent_of_finite_elements_over_declared_range():
 
 
 def test_fe_table_regenerates():
-    # The stored level-3 forces come from springsynth._verify.pad_force_fe: one case re-solved
+    # The stored level-3 forces come from springsynth.checks.verify.pad_force_fe: one case re-solved
     # (natural rubber 20 x 20 x 10, S = 0.5, first two strains of the table). Same code,
     # same mesh: 1e-6 relative (Newton tolerance).
     pytest.importorskip("felupe")
-    from springsynth._verify import pad_force_fe
+    from springsynth.checks.verify import pad_force_fe
     rows = [r for r in _fe_rows() if r["material"] == "natural_rubber" and float(r["t_mm"]) == 10.0
             and float(r["L_mm"]) == 20.0][:2]
     e = np.array([float(r["strain"]) for r in rows])

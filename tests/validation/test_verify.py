@@ -1,4 +1,4 @@
-"""Validation of the independent verification solvers (springsynth._verify) against exact values.
+"""Validation of the independent verification solvers (springsynth.checks.verify) against exact values.
 
 Every check value carries its source and an explicit tolerance (0.5 % unless stated).
 """
@@ -10,10 +10,10 @@ import math
 import numpy as np
 import pytest
 
-from springsynth._assembly import Design, Element
-from springsynth._materials import catalogue
-from springsynth._target import target_from_arrays
-from springsynth import _verify as V
+from springsynth.assembly.design import Design, Element
+from springsynth.model.materials import catalogue
+from springsynth.model.target import target_from_arrays
+from springsynth.checks import verify as V
 
 RTOL = 0.005
 
@@ -127,7 +127,7 @@ def test_verified_error_pct_matches_kernel_error_for_beams():
     d = design(Element("blade_guided", "stainless_17_7ph", 2, 0.0, {"length_mm": 30.0, "width_mm": 10.0, "thickness_mm": 0.3}))
     x = np.linspace(0.0, 6.0, 13)
     t = target_from_arrays(x, 4.2 * x + 0.5)
-    from springsynth._assembly import evaluate_design
+    from springsynth.assembly.evaluate import evaluate_design
 
     nominal = float(t.curve_error_pct(evaluate_design(d, x).force_N)[0])
     assert abs(V.verified_error_pct(d, t) - nominal) < 0.05

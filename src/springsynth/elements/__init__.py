@@ -10,7 +10,7 @@ import importlib
 import pkgutil
 from functools import lru_cache
 
-from ._base import ElementKind, Param
+from springsynth.elements._base import ElementKind, Param
 
 __all__ = ["ElementKind", "Param", "registry", "get_kind", "kind_names"]
 

@@ -7,7 +7,7 @@ Conventions for every kernel method
 -----------------------------------
 ``p``     mapping of parameter name -> ndarray, shape (n,), physical units (mm, N, -).
           Categorical parameters (``Param.choices``) arrive as float indices 0., 1., ...
-``mat``   :class:`~springsynth._materials.MaterialArrays`, fields of shape (n,).
+``mat``   :class:`~springsynth.model.materials.MaterialArrays`, fields of shape (n,).
 ``u``     ndarray, shape (n, m): the element's own stroke, u >= 0 (the assembly has
           already subtracted the gap or added the preload and clipped at 0).
 ``u_max`` ndarray, shape (n,): the largest stroke the element sees in service.
@@ -24,7 +24,7 @@ from typing import Mapping
 
 import numpy as np
 
-from .._materials import MaterialArrays
+from springsynth.model.materials import MaterialArrays
 
 __all__ = ["Param", "ElementKind", "Params", "second_moment_rect", "second_moment_round", "DENSITY_TO_G_PER_MM3"]
 

@@ -69,7 +69,7 @@ from functools import lru_cache
 import numpy as np
 from scipy.special import ellipe, ellipeinc, ellipk, ellipkinc
 
-from ._base import DENSITY_TO_G_PER_MM3, ElementKind
+from springsynth.elements._base import DENSITY_TO_G_PER_MM3, ElementKind
 
 __all__ = [
     "cantilever_exact",

@@ -95,8 +95,8 @@ from importlib import resources
 
 import numpy as np
 
-from ._base import DENSITY_TO_G_PER_MM3, ElementKind, Param
-from ._stretching import RowTable, row_weights
+from springsynth.elements._base import DENSITY_TO_G_PER_MM3, ElementKind, Param
+from springsynth.elements._stretching import RowTable, row_weights
 
 #: Table axes.
 DELTA_MAX = 2.2

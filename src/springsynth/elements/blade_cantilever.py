@@ -36,8 +36,8 @@ gamma = 0.8517, K_Theta = 2.67617 for this load case, a cross-check).
 
 from __future__ import annotations
 
-from . import _elastica
-from ._base import Param
+from springsynth.elements import _elastica
+from springsynth.elements._base import Param
 
 #: Largest stroke / length inside the model's declared range.
 STROKE_LIMIT = _elastica.CANTILEVER_XI_MAX

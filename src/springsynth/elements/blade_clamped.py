@@ -123,8 +123,8 @@ from functools import lru_cache
 
 import numpy as np
 
-from ._base import DENSITY_TO_G_PER_MM3, ElementKind, Param
-from ._stretching import RegularTable, ogden_uniaxial_nominal
+from springsynth.elements._base import DENSITY_TO_G_PER_MM3, ElementKind, Param
+from springsynth.elements._stretching import RegularTable, ogden_uniaxial_nominal
 
 #: Table range and step in delta/t.
 X_TABLE = 64.0

@@ -40,8 +40,8 @@ L.L. Howell, Compliant Mechanisms, Wiley 2001 (pseudo-rigid-body cross-check).
 
 from __future__ import annotations
 
-from . import _elastica
-from ._base import Param
+from springsynth.elements import _elastica
+from springsynth.elements._base import Param
 
 #: Largest stroke / length inside the model's declared range.
 STROKE_LIMIT = _elastica.GUIDED_XI_MAX

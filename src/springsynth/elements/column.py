@@ -45,8 +45,8 @@ import math
 
 import numpy as np
 
-from ._base import DENSITY_TO_G_PER_MM3, ElementKind, Param
-from ._buckling import arc_length_ratio, column_kernel
+from springsynth.elements._base import DENSITY_TO_G_PER_MM3, ElementKind, Param
+from springsynth.elements._buckling import arc_length_ratio, column_kernel
 
 #: largest end shortening / span of the declared range
 SHORTENING_MAX = 0.30

@@ -21,7 +21,7 @@ import math
 
 import numpy as np
 
-from ._base import DENSITY_TO_G_PER_MM3, ElementKind, Param
+from springsynth.elements._base import DENSITY_TO_G_PER_MM3, ElementKind, Param
 
 #: p0 at first yield / Y for a sphere, nu = 0.3 (Johnson 1985, sec. 6.2) [memory]
 P0_YIELD_FACTOR = 1.60

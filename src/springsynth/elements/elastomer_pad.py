@@ -53,7 +53,7 @@ modulus G of the law, bulk modulus K = E/(3(1 - 2 nu))):
 * Fitted constants (C_H, EDGE_ZONE, SHEAR_STRAIN_FACTOR, BULK_SCALE, BULK_ASPECT,
   THINNING_POWER, HOMOGENEOUS_POWER, HOMOGENEOUS_BULK): least squares on the relative
   deviation from non-linear finite-element solutions of the bonded block (felupe,
-  ``springsynth._verify.pad_force_fe``); table and fit in ``tests/benchmarks/``
+  ``springsynth.checks.verify.pad_force_fe``); table and fit in ``tests/benchmarks/``
   (``pad_fe_table.csv``, ``fit_pad.py``).
 
 Accuracy (``fit_pad.py check``, ``tests/validation/test_ribbon_contact_pad.py``): over
@@ -84,8 +84,8 @@ from __future__ import annotations
 
 import numpy as np
 
-from ._base import DENSITY_TO_G_PER_MM3, ElementKind, Param
-from ._stretching import ogden_uniaxial_nominal
+from springsynth.elements._base import DENSITY_TO_G_PER_MM3, ElementKind, Param
+from springsynth.elements._stretching import ogden_uniaxial_nominal
 
 #: homogeneous share c_h = C_H[0] + C_H[1] ln(a/b) + C_H[2] ln(a/b)^2 (fitted, see Notes)
 C_H = (1.1233, 0.0916, 0.0300)

@@ -60,7 +60,7 @@ import math
 
 import numpy as np
 
-from ._base import DENSITY_TO_G_PER_MM3, ElementKind, Param
+from springsynth.elements._base import DENSITY_TO_G_PER_MM3, ElementKind, Param
 
 __all__ = [
     "KIND", "bergstrasser_factor", "wahl_factor", "direct_shear_factor", "spring_rate",

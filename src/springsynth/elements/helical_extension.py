@@ -61,8 +61,8 @@ import math
 
 import numpy as np
 
-from ._base import DENSITY_TO_G_PER_MM3, ElementKind, Param
-from .helical_compression import (
+from springsynth.elements._base import DENSITY_TO_G_PER_MM3, ElementKind, Param
+from springsynth.elements.helical_compression import (
     ACTIVE_COILS_MIN, COIL_SEARCH, INDEX_FACTOR_FLOOR, INDEX_MAX, INDEX_MIN, VON_MISES_SHEAR, bergstrasser_factor, spring_rate,
     wire_strength,
 )

@@ -43,7 +43,7 @@ import math
 
 import numpy as np
 
-from ._base import DENSITY_TO_G_PER_MM3, ElementKind, Param
+from springsynth.elements._base import DENSITY_TO_G_PER_MM3, ElementKind, Param
 
 #: handbook factor for the plateau force F = E b t^3 / (26.4 R_n^2) (physics.md sec. 9)
 HANDBOOK_FACTOR = 26.4

@@ -30,8 +30,8 @@ from __future__ import annotations
 
 import math
 
-from . import _elastica
-from ._base import DENSITY_TO_G_PER_MM3, ElementKind, Param
+from springsynth.elements import _elastica
+from springsynth.elements._base import DENSITY_TO_G_PER_MM3, ElementKind, Param
 
 #: Largest stroke / length inside the model's declared range.
 STROKE_LIMIT = _elastica.GUIDED_XI_MAX

@@ -7,7 +7,7 @@ import os
 import tempfile
 from pathlib import Path
 
-from ._errors import InputError
+from springsynth.model.errors import InputError
 
 __all__ = ["write_text_atomic", "write_bytes_atomic", "new_folder"]
 

@@ -77,10 +77,10 @@ from scipy.integrate import quad, solve_bvp
 from scipy.interpolate import CubicSpline
 from scipy.special import ellipk
 
-from ._assembly import Design, Element
-from ._errors import InputError
-from ._materials import Material, MaterialArrays
-from .elements import get_kind
+from springsynth.assembly.design import Design, Element
+from springsynth.model.errors import InputError
+from springsynth.model.materials import Material, MaterialArrays
+from springsynth.elements import get_kind
 
 __all__ = ["VerificationReport", "ElementCheck", "verify_design", "verified_forces", "verified_error_pct",
            "THRESHOLD_PCT", "solve_tip_loaded_beam", "solve_half_span", "helical_rate_castigliano",
@@ -841,7 +841,7 @@ def _solve_sphere(kind_name, p, mat, u):
 
 
 def _solve_ribbon(kind_name, p, mat, u):
-    from .elements import ribbon as rb
+    from springsynth.elements import ribbon as rb
 
     R_n = p["natural_radius_mm"]
     R_d = rb.DRUM_RATIO * R_n

@@ -10,11 +10,11 @@ from typing import Callable, Sequence
 import numpy as np
 import pandas as pd
 
-from ._assembly import Design
-from ._errors import InputError
-from ._problem import CONSTRAINTS, Encoding
-from ._search import Progress, run_search
-from ._study import Study
+from springsynth.assembly.design import Design
+from springsynth.model.errors import InputError
+from springsynth.search.scoring import CONSTRAINTS, Encoding
+from springsynth.search.loop import Progress, run_search
+from springsynth.model.study import Study
 
 __all__ = ["synthesize", "Synthesis", "design_table", "curve_grid"]
 
@@ -182,7 +182,7 @@ def synthesize(study: Study, *, seed: int | None = None, population: int | None 
 
 def _in_spec_top(study: Study, designs, ids) -> dict[str, float]:
     """Share of 1000 Monte Carlo parts (manufacturing tolerances) inside the target band."""
-    from ._tolerance import tolerance_analysis
+    from springsynth.checks.tolerance import tolerance_analysis
 
     by_id = {d.name: d for d in designs}
     return {i: float(tolerance_analysis(by_id[i], study.target.x_mm, target=study.target, n_samples=1000,
@@ -195,7 +195,7 @@ SLOW_TO_VERIFY = frozenset({"arch", "elastomer_pad"})
 
 def _verify_top(study: Study, designs, sc, top: int) -> dict[str, float]:
     """Verified curve error of the ``top`` lowest-error feasible designs (NaN where skipped)."""
-    from ._verify import verified_error_pct
+    from springsynth.checks.verify import verified_error_pct
 
     ok = np.flatnonzero(np.all(sc.G <= 0, axis=1))
     order = ok[np.argsort(sc.F[ok, 0], kind="stable")][:top]

@@ -23,7 +23,7 @@ from typing import Any, Mapping, Sequence
 
 import numpy as np
 
-from ._errors import InputError
+from springsynth.model.errors import InputError
 
 __all__ = [
     "Material",
@@ -184,7 +184,7 @@ def material_from_mapping(mid: str, d: Mapping[str, Any], *, where: str) -> Mate
     defaults to ``E/(2(1+nu))`` and ``nu`` to 0.3. Hyperelastic entries give ``law``
     and its constants; E and G then follow from the initial shear modulus.
     """
-    from ._suggest import unknown_key_message
+    from springsynth.model.suggest import unknown_key_message
 
     where = f"{where} [materials.{mid}]"
     if not isinstance(d, Mapping):
@@ -264,7 +264,7 @@ def _parse_constants(text: str, law: str) -> dict[str, Any]:
 @lru_cache(maxsize=1)
 def catalogue() -> dict[str, Material]:
     """The shipped catalogue (``springsynth/data/materials.csv``), keyed by id."""
-    text = resources.files(__package__).joinpath("data").joinpath(_CSV).read_text(encoding="utf-8")
+    text = resources.files("springsynth").joinpath("data").joinpath(_CSV).read_text(encoding="utf-8")
     rows = list(csv.DictReader(line for line in text.splitlines() if not line.startswith("#")))
     out: dict[str, Material] = {}
     f = lambda r, k: float(r[k]) if r.get(k, "").strip() else math.nan  # noqa: E731

@@ -3,29 +3,23 @@
 from __future__ import annotations
 
 import copy
-import hashlib
-import json
 import math
 import tomllib
-from dataclasses import dataclass
 from pathlib import Path
 from typing import Any, Mapping
 
-from ._assembly import Envelope
-from ._designio import MAX_COUNT, _finite, read_toml, resolve_materials
-from ._errors import InputError
-from ._materials import Material
-from ._suggest import unknown_key_message
-from ._target import Target, load_target
-from .elements import ElementKind, get_kind, registry
+from springsynth.assembly.design import MAX_COUNT
+from springsynth.io.design_toml import read_toml, resolve_materials
+from springsynth.model.numbers import is_finite_number
+from springsynth.model.errors import InputError
+from springsynth.model.study import DEFAULTS, Envelope, Limits, SearchOptions, Study
+from springsynth.model.materials import Material
+from springsynth.model.suggest import unknown_key_message
+from springsynth.io.target_csv import load_target
+from springsynth.elements import ElementKind, get_kind, registry
 
-__all__ = ["Study", "Limits", "SearchOptions", "load_study", "study_from_mapping", "apply_overrides", "DEFAULTS"]
+__all__ = ["load_study", "study_from_mapping", "apply_overrides"]
 
-DEFAULTS = {
-    "limits": {"stress_ratio": 0.8, "min_thickness_mm": 0.05, "max_error_pct": 20.0},
-    "search": {"max_elements": 3, "max_count": 4, "population": 120, "generations": 80, "seed": 1,
-               "polish": True, "verify_top": 5, "robust": False},
-}
 
 _SCHEMA: dict[str, set[str] | None] = {
     "name": None, "description": None, "target": {"file"},
@@ -37,56 +31,9 @@ _SCHEMA: dict[str, set[str] | None] = {
 }
 
 
-@dataclass(frozen=True)
-class Limits:
-    stress_ratio: float = 0.8
-    min_thickness_mm: float = 0.05
-    max_mass_g: float = math.inf
-    #: designs whose curve error exceeds this are not worth showing (a constraint)
-    max_error_pct: float = 20.0
-
-
-@dataclass(frozen=True)
-class SearchOptions:
-    kinds: tuple[ElementKind, ...]
-    materials: tuple[Material, ...]
-    max_elements: int = 3
-    max_count: int = 4
-    population: int = 120
-    generations: int = 80
-    seed: int = 1
-    polish: bool = True
-    verify_top: int = 5
-    robust: bool = False
-
-
-@dataclass(frozen=True)
-class Study:
-    """A validated study. ``raw`` is the parsed file (with overrides applied), kept for reruns."""
-
-    name: str
-    target: Target
-    envelope: Envelope
-    limits: Limits
-    search: SearchOptions
-    raw: Mapping[str, Any]
-    path: Path | None = None
-    target_path: Path | None = None
-
-    def hash(self) -> str:
-        """SHA-256 of the study's content and its target file's bytes (first 16 hex digits)."""
-        h = hashlib.sha256(json.dumps(self.raw, sort_keys=True, default=str).encode())
-        if self.target_path is not None and self.target_path.exists():
-            h.update(self.target_path.read_bytes())
-        return h.hexdigest()[:16]
-
-    def materials_for(self, kind: ElementKind) -> tuple[Material, ...]:
-        return tuple(m for m in self.search.materials if m.suits(kind.forms))
-
-
 def _num(v: Any, where: str, *, lo: float | None = None, integer: bool = False, strict: bool = True,
          hi: float | None = None) -> float:
-    if isinstance(v, bool) or not isinstance(v, (int, float)) or not _finite(v):
+    if isinstance(v, bool) or not isinstance(v, (int, float)) or not is_finite_number(v):
         raise InputError(f"must be a {'whole ' if integer else ''}number, got {v!r}", where=where)
     if integer and v != int(v):
         raise InputError(f"must be a whole number, got {v!r}", where=where)
@@ -99,6 +46,22 @@ def _num(v: Any, where: str, *, lo: float | None = None, integer: bool = False, 
 
 def study_from_mapping(doc: Mapping[str, Any], *, where: str, base_dir: Path) -> Study:
     """Validate a parsed study; relative target paths resolve against ``base_dir``."""
+    _check_keys(doc, where)
+    for need in ("target", "envelope"):
+        if need not in doc:
+            raise InputError(f"missing [{need}] table", where=where)
+    tpath = _target_path(doc["target"], where, base_dir)
+    name = doc.get("name", Path(where).stem)
+    if not isinstance(name, str) or not name.strip():
+        raise InputError(f"name must be a non-empty string, got {name!r}", where=where)
+    return Study(name=name, target=load_target(tpath), envelope=_envelope(doc["envelope"], where),
+                 limits=_limits(doc.get("limits", {}), where),
+                 search=_search(doc.get("search", {}), resolve_materials(doc.get("materials"), where), where),
+                 raw=copy.deepcopy(dict(doc)), path=None, target_path=tpath)
+
+
+def _check_keys(doc: Mapping[str, Any], where: str) -> None:
+    """Every section and key is one the schema knows (with the nearest one suggested)."""
     for k, v in doc.items():
         if k not in _SCHEMA:
             raise InputError(unknown_key_message(k, _SCHEMA), where=where)
@@ -109,10 +72,10 @@ def study_from_mapping(doc: Mapping[str, Any], *, where: str, base_dir: Path) ->
             for kk in v:
                 if kk not in sub:
                     raise InputError(unknown_key_message(kk, sub), where=f"{where} [{k}]")
-    for need in ("target", "envelope"):
-        if need not in doc:
-            raise InputError(f"missing [{need}] table", where=where)
-    tfile = doc["target"].get("file")
+
+
+def _target_path(section: Mapping[str, Any], where: str, base_dir: Path) -> Path:
+    tfile = section.get("file")
     if not isinstance(tfile, str) or not tfile:
         raise InputError("target.file must be the path of a target CSV", where=f"{where} [target]")
     try:
@@ -125,35 +88,40 @@ def study_from_mapping(doc: Mapping[str, Any], *, where: str, base_dir: Path) ->
     if folder:
         raise InputError(f"target file {tfile!r} is a folder ({tpath}); give the path of a target CSV",
                          where=f"{where} [target].file")
-    target = load_target(tpath)
+    return tpath
 
-    env = doc["envelope"]
+
+def _envelope(env: Mapping[str, Any], where: str) -> Envelope:
     for k in ("length_mm", "width_mm", "height_mm"):
         if k not in env:
             raise InputError(f"missing {k}", where=f"{where} [envelope]")
         _num(env[k], f"{where} [envelope].{k}", lo=0.0)
-    envelope = Envelope(float(env["length_mm"]), float(env["width_mm"]), float(env["height_mm"]))
+    return Envelope(float(env["length_mm"]), float(env["width_mm"]), float(env["height_mm"]))
 
-    lim = {**DEFAULTS["limits"], **doc.get("limits", {})}
-    limits = Limits(
-        stress_ratio=_num(lim["stress_ratio"], f"{where} [limits].stress_ratio", lo=0.0),
-        min_thickness_mm=_num(lim["min_thickness_mm"], f"{where} [limits].min_thickness_mm", lo=0.0, strict=False),
-        max_mass_g=_num(lim.get("max_mass_g", math.inf), f"{where} [limits].max_mass_g", lo=0.0)
-        if "max_mass_g" in lim else math.inf,
-        max_error_pct=_num(lim["max_error_pct"], f"{where} [limits].max_error_pct", lo=0.0),
+
+def _limits(given: Mapping[str, Any], where: str) -> Limits:
+    lim = {**DEFAULTS["limits"], **given}
+    at = f"{where} [limits]."
+    return Limits(
+        stress_ratio=_num(lim["stress_ratio"], at + "stress_ratio", lo=0.0),
+        min_thickness_mm=_num(lim["min_thickness_mm"], at + "min_thickness_mm", lo=0.0, strict=False),
+        max_mass_g=_num(given["max_mass_g"], at + "max_mass_g", lo=0.0) if "max_mass_g" in given else math.inf,
+        max_error_pct=_num(lim["max_error_pct"], at + "max_error_pct", lo=0.0),
     )
 
-    s = {**DEFAULTS["search"], **doc.get("search", {})}
-    mats = resolve_materials(doc.get("materials"), where)
+
+def _kinds(s: Mapping[str, Any], where: str) -> tuple[ElementKind, ...]:
     kinds_in = s.get("elements", list(registry()))
     if not isinstance(kinds_in, list) or not kinds_in or not all(isinstance(k, str) for k in kinds_in):
         raise InputError(f"elements must be a non-empty list of kind names, got {kinds_in!r}", where=f"{where} [search]")
-    kinds = []
     for k in kinds_in:
         if k not in registry():
             raise InputError(unknown_key_message(k, registry(), what="kind") + " (see `springsynth elements`)",
                              where=f"{where} [search].elements")
-        kinds.append(get_kind(k))
+    return tuple(get_kind(k) for k in kinds_in)
+
+
+def _materials(s: Mapping[str, Any], mats: Mapping[str, Material], kinds, where: str) -> tuple[Material, ...]:
     mats_in = s.get("materials", sorted(mats))
     if not isinstance(mats_in, list) or not mats_in or not all(isinstance(m, str) for m in mats_in):
         raise InputError(f"materials must be a non-empty list of material ids, got {mats_in!r}", where=f"{where} [search]")
@@ -166,28 +134,27 @@ def study_from_mapping(doc: Mapping[str, Any], *, where: str, base_dir: Path) ->
         if not any(m.suits(kd.forms) for m in chosen):
             raise InputError(f"no listed material suits {kd.name} (needs {' or '.join(kd.forms)} material); add one "
                              f"to [search].materials or drop the kind", where=f"{where} [search]")
+    return chosen
+
+
+def _search(given: Mapping[str, Any], mats: Mapping[str, Material], where: str) -> SearchOptions:
+    s = {**DEFAULTS["search"], **given}
+    kinds = _kinds(s, where)
+    at = f"{where} [search]."
+
+    def whole(key: str, lo: int, hi: float) -> int:
+        return int(_num(s[key], at + key, lo=lo, integer=True, strict=False, hi=hi))
+
     opts = SearchOptions(
-        kinds=tuple(kinds), materials=chosen,
-        max_elements=int(_num(s["max_elements"], f"{where} [search].max_elements", lo=1, integer=True, strict=False)),
-        max_count=int(_num(s["max_count"], f"{where} [search].max_count", lo=1, integer=True, strict=False,
-                           hi=MAX_COUNT)),
-        population=int(_num(s["population"], f"{where} [search].population", lo=4, integer=True, strict=False,
-                            hi=100_000)),
-        generations=int(_num(s["generations"], f"{where} [search].generations", lo=1, integer=True, strict=False,
-                             hi=100_000)),
-        seed=int(_num(s["seed"], f"{where} [search].seed", lo=0, integer=True, strict=False, hi=2**32 - 1)),
-        polish=_bool(s["polish"], f"{where} [search].polish"),
-        verify_top=int(_num(s["verify_top"], f"{where} [search].verify_top", lo=0, integer=True, strict=False,
-                            hi=100_000)),
-        robust=_bool(s["robust"], f"{where} [search].robust"),
+        kinds=kinds, materials=_materials(s, mats, kinds, where),
+        max_elements=whole("max_elements", 1, math.inf), max_count=whole("max_count", 1, MAX_COUNT),
+        population=whole("population", 4, 100_000), generations=whole("generations", 1, 100_000),
+        seed=whole("seed", 0, 2**32 - 1), polish=_bool(s["polish"], at + "polish"),
+        verify_top=whole("verify_top", 0, 100_000), robust=_bool(s["robust"], at + "robust"),
     )
     if opts.max_elements > 6:
         raise InputError(f"max_elements must be at most 6, got {opts.max_elements}", where=f"{where} [search]")
-    name = doc.get("name", Path(where).stem)
-    if not isinstance(name, str) or not name.strip():
-        raise InputError(f"name must be a non-empty string, got {name!r}", where=where)
-    return Study(name=name, target=target, envelope=envelope, limits=limits, search=opts,
-                 raw=copy.deepcopy(dict(doc)), path=None, target_path=tpath)
+    return opts
 
 
 def _bool(v: Any, where: str) -> bool:

@@ -26,8 +26,8 @@ from pymoo.operators.survival.rank_and_crowding import RankAndCrowding
 from pymoo.util.nds.non_dominated_sorting import NonDominatedSorting
 from scipy.optimize import least_squares
 
-from ._problem import CONSTRAINTS, Encoding, Scores, score
-from ._study import Study
+from springsynth.search.scoring import CONSTRAINTS, Encoding, Scores, score
+from springsynth.model.study import Study
 
 __all__ = ["run_search", "SearchOutcome", "Progress", "hypervolume"]
 

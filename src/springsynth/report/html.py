@@ -27,12 +27,13 @@ from typing import Mapping, Sequence
 import numpy as np
 import pandas as pd
 
-from ._assembly import Design, Response, evaluate_design
-from ._designio import read_toml
-from ._fileio import write_bytes_atomic, write_text_atomic
-from ._runio import CAUTION, RunFolder, read_run
-from ._study import Study
-from .elements import get_kind
+from springsynth.assembly.design import Design
+from springsynth.assembly.evaluate import Response, evaluate_design
+from springsynth.io.design_toml import read_toml
+from springsynth.io.files import write_bytes_atomic, write_text_atomic
+from springsynth.io.runfolder import CAUTION, RunFolder, read_run
+from springsynth.model.study import Study
+from springsynth.elements import get_kind
 
 __all__ = ["build_report", "REPORT", "BASE_COLUMNS"]
 
@@ -97,8 +98,8 @@ def extra_columns(table: pd.DataFrame) -> list[str]:
 
 def _figures(run: _Run) -> tuple[dict[str, bytes], dict[str, bytes], dict[str, Response], dict[str, list[str]]]:
     """All figures as PNG bytes (run-level, per design), the responses and each design's roles."""
-    from . import _plots as P
-    from ._synthesis import curve_grid
+    from springsynth.report import plots as P
+    from springsynth.search.synthesis import curve_grid
 
     st = run.study
     ids = [d.name for d in run.designs]
@@ -438,7 +439,7 @@ def _card(run: _Run, i: int, d: Design, r: Response, png: bytes | None, roles: S
 
 def _html(run: _Run, figs: Mapping[str, bytes], per_design: Mapping[str, bytes], responses: Mapping[str, Response],
           roles: Mapping[str, list[str]]) -> str:
-    from . import __version__
+    from springsynth import __version__
 
     name = run.meta.get("study", run.study.name)
     caution = f'<div class=caution role=note><b>Caution.</b> {_e(CAUTION)}</div>'
@@ -493,7 +494,7 @@ def build_report(folder: Path | RunFolder, *, study: Study | None = None) -> Pat
     Parameters
     ----------
     folder : Path or RunFolder
-        A folder written by ``springsynth run`` (or :func:`~springsynth._runio.read_run` of one).
+        A folder written by ``springsynth run`` (or :func:`~springsynth.io.runfolder.read_run` of one).
     study : Study, optional
         Used only when the folder has no ``study.toml`` (a study built in code); the
         folder's own copy always wins, so ``run`` and ``report`` give the same result.

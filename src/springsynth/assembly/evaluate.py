@@ -17,20 +17,17 @@ length x stack width x stack height.
 
 from __future__ import annotations
 
-import math
-from dataclasses import dataclass, field
-from typing import Mapping, Sequence
+from dataclasses import dataclass
 
 import numpy as np
 
-from ._errors import InputError
-from ._materials import Material, MaterialArrays
-from .elements import ElementKind, get_kind, registry
+from springsynth.assembly.design import Design
+from springsynth.assembly.slots import Slots
+from springsynth.model.study import Envelope
+from springsynth.model.materials import MaterialArrays
 
-__all__ = ["Element", "Design", "Slots", "Response", "Envelope", "evaluate_population", "evaluate_design", "envelope_margins"]
+__all__ = ["Response", "evaluate_population", "evaluate_design", "envelope_margins"]
 
-#: offsets smaller than this are left out of the readable topology summary, mm
-_SHOWN_OFFSET_MM = 0.001
 #: parameters more than this factor beyond their bounds are outside the numerical domain
 _DOMAIN = 1e6
 #: largest element stroke (and stroke minus offset) evaluated, mm; beyond it a design is not finite
@@ -39,193 +36,6 @@ _MAX_STROKE_MM = 1e9
 _STRESS_GRID = 33
 #: rows per chunk when adding a slot's forces to the total (keeps the temporary small)
 _CHUNK_ROWS = 2048
-
-
-@dataclass(frozen=True)
-class Envelope:
-    """Bounding box the whole mechanism must fit in, mm."""
-
-    length_mm: float
-    width_mm: float
-    height_mm: float
-
-    def __post_init__(self):
-        for k in ("length_mm", "width_mm", "height_mm"):
-            v = getattr(self, k)
-            if not (isinstance(v, (int, float)) and not isinstance(v, bool) and math.isfinite(v) and v > 0):
-                raise InputError(f"{k} must be a positive number of mm, got {v!r}", where="[envelope]")
-
-
-@dataclass(frozen=True)
-class Element:
-    """One element of a design: a kind, a material, ``count`` identical copies in parallel.
-
-    ``params`` maps each of the kind's parameter names to a number (or, for a
-    categorical parameter, one of its choices).
-    """
-
-    kind: str
-    material: str
-    count: int = 1
-    offset_mm: float = 0.0
-    params: Mapping[str, float | str] = field(default_factory=dict)
-
-    def values(self) -> dict[str, float]:
-        """Parameters as floats (categorical choices as their index)."""
-        k = get_kind(self.kind)
-        out = {}
-        for q in k.params:
-            v = self.params[q.name]
-            out[q.name] = float(q.choices.index(v)) if q.choices else float(v)
-        return out
-
-    def summary(self) -> str:
-        base = get_kind(self.kind).summary(self.values())
-        s = f"{self.count}x {base} [{self.material}]"
-        if self.offset_mm >= _SHOWN_OFFSET_MM:
-            s += f" gap {self.offset_mm:.3g}"
-        elif self.offset_mm <= -_SHOWN_OFFSET_MM:
-            s += f" preload {-self.offset_mm:.3g}"
-        return s
-
-
-@dataclass(frozen=True)
-class Design:
-    """A mechanism: elements in parallel, with the materials they name resolved."""
-
-    elements: tuple[Element, ...]
-    materials: Mapping[str, Material]
-    name: str = "design"
-
-    def __post_init__(self):
-        object.__setattr__(self, "elements", tuple(self.elements))
-        if not self.elements:
-            raise InputError("a design needs at least one [[element]]", where=self.name)
-        for i, e in enumerate(self.elements):
-            if e.material not in self.materials:
-                raise InputError(f"material {e.material!r} is not resolved", where=f"{self.name} element {i + 1}")
-
-    def topology(self) -> str:
-        return " + ".join(e.summary() for e in self.elements)
-
-
-@dataclass(frozen=True)
-class Slots:
-    """A population of mechanisms as arrays: n designs x S parallel slots.
-
-    Attributes
-    ----------
-    kind : ndarray of int, shape (n, S)
-        Index into ``kinds``; -1 marks an empty slot.
-    material : ndarray of int, shape (n, S)
-        Index into ``materials``.
-    count : ndarray, shape (n, S)
-    offset_mm : ndarray, shape (n, S)
-    params : ndarray, shape (n, S, P)
-        Parameters in each kind's own order (``kind.params``), physical units,
-        categorical ones as indices; unused trailing columns are ignored.
-    kinds : tuple of ElementKind
-    materials : tuple of Material
-    """
-
-    kind: np.ndarray
-    material: np.ndarray
-    count: np.ndarray
-    offset_mm: np.ndarray
-    params: np.ndarray
-    kinds: tuple[ElementKind, ...]
-    materials: tuple[Material, ...]
-
-    @property
-    def n(self) -> int:
-        return self.kind.shape[0]
-
-    @property
-    def n_slots(self) -> int:
-        return self.kind.shape[1]
-
-    @classmethod
-    def from_designs(cls, designs: Sequence[Design], n_slots: int | None = None,
-                     kinds: Sequence[ElementKind] | None = None,
-                     materials: Sequence[Material] | None = None) -> "Slots":
-        """Pack designs into arrays (one row per design, empty slots padded)."""
-        kinds = tuple(kinds) if kinds is not None else tuple(registry().values())
-        mats: list[Material] = list(materials) if materials is not None else []
-        for d in designs:
-            for e in d.elements:
-                m = d.materials[e.material]
-                if m not in mats:
-                    mats.append(m)
-        S = n_slots or max(len(d.elements) for d in designs)
-        P = max(len(k.params) for k in kinds)
-        n = len(designs)
-        kind = np.full((n, S), -1, dtype=np.intp)
-        mat = np.zeros((n, S), dtype=np.intp)
-        count = np.zeros((n, S))
-        off = np.zeros((n, S))
-        par = np.zeros((n, S, P))
-        names = [k.name for k in kinds]
-        for i, d in enumerate(designs):
-            if len(d.elements) > S:
-                raise InputError(f"has {len(d.elements)} elements, more than the {S} slots allowed", where=d.name)
-            for j, e in enumerate(d.elements):
-                kind[i, j] = names.index(e.kind)
-                mat[i, j] = mats.index(d.materials[e.material])
-                count[i, j] = e.count
-                off[i, j] = e.offset_mm
-                vals = e.values()
-                par[i, j, : len(vals)] = [vals[q.name] for q in kinds[kind[i, j]].params]
-        return cls(kind, mat, count, off, par, kinds, tuple(mats))
-
-    def slot_order(self, j: int) -> tuple[np.ndarray, np.ndarray]:
-        """Rows of slot ``j`` sorted by kind, and where each kind's block of them lies.
-
-        Returns
-        -------
-        order : ndarray of int, shape (n,)
-            Row indices: the rows whose slot ``j`` is empty first, then each kind's rows,
-            in increasing order within a kind (a stable sort).
-        edges : ndarray of int, shape (len(kinds) + 2,)
-            Kind ``ki`` occupies ``order[edges[ki + 1]:edges[ki + 2]]`` and the empty
-            slots ``order[:edges[1]]``.
-        """
-        K = len(self.kinds)
-        key = np.maximum(self.kind[:, j], -1) + 1              # 0 = empty, 1 + ki = kind ki
-        # a stable sort of small integers is a radix sort: linear in n
-        order = np.argsort(key.astype(np.int16) if K < 2**15 - 1 else key, kind="stable")
-        edges = np.zeros(K + 2, dtype=np.intp)
-        np.cumsum(np.bincount(key, minlength=K + 1), out=edges[1:])
-        return order, edges
-
-    def groups(self):
-        """``(slot j, kind index, rows)`` for every kind present in every slot.
-
-        Whole-population loops run over these (a handful), never over designs; ``rows``
-        are increasing.
-        """
-        for j in range(self.n_slots):
-            order, edges = self.slot_order(j)
-            for ki in range(len(self.kinds)):
-                if edges[ki + 2] > edges[ki + 1]:
-                    yield j, ki, order[edges[ki + 1]:edges[ki + 2]]
-
-    def design(self, i: int, name: str = "design") -> Design:
-        """Row ``i`` as a :class:`Design` (the inverse of :meth:`from_designs`)."""
-        elems = []
-        used: dict[str, Material] = {}
-        for j in range(self.n_slots):
-            k = int(self.kind[i, j])
-            if k < 0:
-                continue
-            kind = self.kinds[k]
-            m = self.materials[int(self.material[i, j])]
-            used[m.id] = m
-            params: dict[str, float | str] = {}
-            for c, q in enumerate(kind.params):
-                v = float(self.params[i, j, c])
-                params[q.name] = q.choices[int(round(v))] if q.choices else (int(round(v)) if q.integer else v)
-            elems.append(Element(kind.name, m.id, int(round(self.count[i, j])), float(self.offset_mm[i, j]), params))
-        return Design(tuple(elems), used, name=name)
 
 
 @dataclass(frozen=True)

@@ -12,13 +12,16 @@ from pathlib import Path
 import numpy as np
 import pandas as pd
 
-from . import __version__
-from ._assembly import Design, evaluate_population, Slots
-from ._designio import design_to_toml, load_design
-from ._errors import InputError
-from ._fileio import new_folder, write_bytes_atomic, write_text_atomic
-from ._study import Study, load_study
-from ._synthesis import Synthesis, curve_grid
+from springsynth import __version__
+from springsynth.assembly.design import Design
+from springsynth.assembly.evaluate import evaluate_population
+from springsynth.assembly.slots import Slots
+from springsynth.io.design_toml import design_to_toml, load_design
+from springsynth.model.errors import InputError
+from springsynth.io.files import new_folder, write_bytes_atomic, write_text_atomic
+from springsynth.model.study import Study
+from springsynth.io.study_toml import load_study
+from springsynth.search.synthesis import Synthesis, curve_grid
 
 __all__ = ["write_run", "read_run", "RunFolder", "CAUTION", "CHECKPOINT"]
 
@@ -89,7 +92,7 @@ def write_run(res: Synthesis, out: Path, *, parent: str | None = None, overrides
         write_bytes_atomic(folder / CHECKPOINT, res.checkpoint)
     write_text_atomic(folder / "run.json", json.dumps(_plain(meta), indent=1) + "\n")
     if plots:  # figures and report.html from the folder alone, exactly as `springsynth report` does
-        from ._report import build_report
+        from springsynth.report.html import build_report
 
         build_report(folder, study=st)
     return folder

@@ -60,9 +60,11 @@ from functools import lru_cache
 
 import numpy as np
 
-from ._assembly import Design, Slots, evaluate_population
-from ._errors import InputError
-from ._materials import Material
+from springsynth.assembly.design import Design
+from springsynth.assembly.slots import Slots
+from springsynth.assembly.evaluate import evaluate_population
+from springsynth.model.errors import InputError
+from springsynth.model.materials import Material
 
 __all__ = ["tolerance_analysis", "ToleranceResult", "robust_error", "PROCESSES", "plot_tolerance",
            "write_tolerance", "modulus_tolerance", "param_tolerance"]
@@ -524,7 +526,7 @@ def write_tolerance(res: ToleranceResult, folder, *, target=None) -> list:
     matplotlib.use("Agg")
     import matplotlib.pyplot as plt
 
-    from ._fileio import write_bytes_atomic, write_text_atomic
+    from springsynth.io.files import write_bytes_atomic, write_text_atomic
 
     folder = Path(folder)
     written = []

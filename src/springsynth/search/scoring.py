@@ -27,8 +27,10 @@ from dataclasses import dataclass
 
 import numpy as np
 
-from ._assembly import Design, Response, Slots, envelope_margins, evaluate_population
-from ._study import Study
+from springsynth.assembly.design import Design
+from springsynth.assembly.evaluate import Response, envelope_margins, evaluate_population
+from springsynth.assembly.slots import Slots
+from springsynth.model.study import Study
 
 __all__ = ["Encoding", "CONSTRAINTS", "Scores", "score", "OFFSET_LO", "OFFSET_HI"]
 
@@ -203,7 +205,7 @@ def score(study: Study, slots: Slots) -> Scores:
         g_err = err / lim.max_error_pct - 1.0
     obj_err = err
     if study.search.robust:  # [search] robust = true: 90th-percentile error over fixed tolerance samples
-        from ._tolerance import robust_error
+        from springsynth.checks.tolerance import robust_error
 
         obj_err = robust_error(study, slots)
     F = np.stack([obj_err, r.stress_ratio, r.size_mm3], axis=1)

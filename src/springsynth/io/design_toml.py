@@ -7,17 +7,17 @@ import tomllib
 from pathlib import Path
 from typing import Any, Mapping
 
-from ._assembly import Design, Element
-from ._errors import InputError
-from ._materials import Material, catalogue, material_from_mapping
-from ._suggest import unknown_key_message
-from .elements import get_kind, registry
+from springsynth.assembly.design import MAX_COUNT, Design, Element
+from springsynth.model.errors import InputError
+from springsynth.model.numbers import is_finite_number
+from springsynth.model.materials import Material, catalogue, material_from_mapping
+from springsynth.model.suggest import unknown_key_message
+from springsynth.elements import get_kind, registry
 
 __all__ = ["load_design", "design_from_mapping", "design_to_toml", "resolve_materials", "read_toml"]
 
 _TOP_KEYS = {"name", "note", "element", "materials"}
 #: most identical copies of one element in parallel (designs and studies)
-MAX_COUNT = 1000
 _ELEMENT_KEYS = {"kind", "material", "count", "offset_mm"}
 
 
@@ -88,7 +88,7 @@ def element_from_mapping(d: Any, mats: Mapping[str, Material], where: str) -> El
     if isinstance(count, bool) or not isinstance(count, int) or not 1 <= count <= MAX_COUNT:
         raise InputError(f"count must be a whole number >= 1 (at most {MAX_COUNT}), got {count!r}", where=f"{where}.count")
     offset = d.get("offset_mm", 0.0)
-    if isinstance(offset, bool) or not isinstance(offset, (int, float)) or not _finite(offset):
+    if isinstance(offset, bool) or not isinstance(offset, (int, float)) or not is_finite_number(offset):
         raise InputError(f"offset_mm must be a finite number of mm, got {offset!r}", where=f"{where}.offset_mm")
     params: dict[str, float | str] = {}
     for q in kind.params:
@@ -101,7 +101,7 @@ def element_from_mapping(d: Any, mats: Mapping[str, Material], where: str) -> El
                 raise InputError(f"must be one of {', '.join(map(repr, q.choices))}, got {v!r}", where=w)
             params[q.name] = v
             continue
-        if isinstance(v, bool) or not isinstance(v, (int, float)) or not _finite(v):
+        if isinstance(v, bool) or not isinstance(v, (int, float)) or not is_finite_number(v):
             raise InputError(f"must be a finite number ({q.unit}), got {v!r}", where=w)
         if q.lo > 0 and v <= 0:
             raise InputError(f"must be > 0 {q.unit}, got {v!r}", where=w)
@@ -112,13 +112,6 @@ def element_from_mapping(d: Any, mats: Mapping[str, Material], where: str) -> El
         params[q.name] = float(v)
     return Element(kname, mid, int(count), float(offset), params)
 
-
-def _finite(v: int | float) -> bool:
-    """Whether a number from a file is finite as a float (a huge TOML integer is not)."""
-    try:
-        return math.isfinite(float(v))
-    except OverflowError:
-        return False
 
 
 def design_from_mapping(doc: Mapping[str, Any], *, where: str, name: str | None = None) -> Design:

@@ -22,9 +22,10 @@ import matplotlib.pyplot as plt  # noqa: E402
 import numpy as np  # noqa: E402
 from matplotlib.patches import FancyBboxPatch, Rectangle  # noqa: E402
 
-from ._assembly import Design, Response  # noqa: E402
-from ._fileio import write_bytes_atomic  # noqa: E402
-from ._target import Target  # noqa: E402
+from springsynth.assembly.design import Design
+from springsynth.assembly.evaluate import Response
+from springsynth.io.files import write_bytes_atomic  # noqa: E402
+from springsynth.model.target import Target
 
 __all__ = ["PALETTE", "STYLE", "plot_design", "plot_pareto", "plot_curves", "plot_convergence", "plot_schematic",
            "knee_index", "representatives", "save", "png_bytes"]
@@ -551,7 +552,7 @@ def _glyph(ax, kind: str, params: Mapping, x0: float, x1: float, y: float, h: fl
 
 
 def _short_params(kind: str, params: Mapping) -> str:
-    from .elements import get_kind
+    from springsynth.elements import get_kind
 
     try:
         k = get_kind(kind)
@@ -640,7 +641,7 @@ def plot_design(design: Design, resp: Response, *, target: Target | None = None,
     ----------
     design : Design
     resp : Response
-        From :func:`~springsynth._assembly.evaluate_design` (needs ``element_force_N``
+        From :func:`~springsynth.assembly.evaluate.evaluate_design` (needs ``element_force_N``
         and ``stress_ratio_curve``).
     target : Target, optional
         Overlaid with its band.

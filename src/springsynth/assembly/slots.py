@@ -1,0 +1,134 @@
+"""A population of designs as arrays (n designs x S slots), and back."""
+
+from __future__ import annotations
+
+from dataclasses import dataclass
+from typing import Sequence
+
+import numpy as np
+
+from springsynth.assembly.design import Design, Element
+from springsynth.elements import ElementKind, registry
+from springsynth.model.errors import InputError
+from springsynth.model.materials import Material
+
+__all__ = ["Slots"]
+
+
+@dataclass(frozen=True)
+class Slots:
+    """A population of mechanisms as arrays: n designs x S parallel slots.
+
+    Attributes
+    ----------
+    kind : ndarray of int, shape (n, S)
+        Index into ``kinds``; -1 marks an empty slot.
+    material : ndarray of int, shape (n, S)
+        Index into ``materials``.
+    count : ndarray, shape (n, S)
+    offset_mm : ndarray, shape (n, S)
+    params : ndarray, shape (n, S, P)
+        Parameters in each kind's own order (``kind.params``), physical units,
+        categorical ones as indices; unused trailing columns are ignored.
+    kinds : tuple of ElementKind
+    materials : tuple of Material
+    """
+
+    kind: np.ndarray
+    material: np.ndarray
+    count: np.ndarray
+    offset_mm: np.ndarray
+    params: np.ndarray
+    kinds: tuple[ElementKind, ...]
+    materials: tuple[Material, ...]
+
+    @property
+    def n(self) -> int:
+        return self.kind.shape[0]
+
+    @property
+    def n_slots(self) -> int:
+        return self.kind.shape[1]
+
+    @classmethod
+    def from_designs(cls, designs: Sequence[Design], n_slots: int | None = None,
+                     kinds: Sequence[ElementKind] | None = None,
+                     materials: Sequence[Material] | None = None) -> "Slots":
+        """Pack designs into arrays (one row per design, empty slots padded)."""
+        kinds = tuple(kinds) if kinds is not None else tuple(registry().values())
+        mats: list[Material] = list(materials) if materials is not None else []
+        for d in designs:
+            for e in d.elements:
+                m = d.materials[e.material]
+                if m not in mats:
+                    mats.append(m)
+        S = n_slots or max(len(d.elements) for d in designs)
+        P = max(len(k.params) for k in kinds)
+        n = len(designs)
+        kind = np.full((n, S), -1, dtype=np.intp)
+        mat = np.zeros((n, S), dtype=np.intp)
+        count = np.zeros((n, S))
+        off = np.zeros((n, S))
+        par = np.zeros((n, S, P))
+        names = [k.name for k in kinds]
+        for i, d in enumerate(designs):
+            if len(d.elements) > S:
+                raise InputError(f"has {len(d.elements)} elements, more than the {S} slots allowed", where=d.name)
+            for j, e in enumerate(d.elements):
+                kind[i, j] = names.index(e.kind)
+                mat[i, j] = mats.index(d.materials[e.material])
+                count[i, j] = e.count
+                off[i, j] = e.offset_mm
+                vals = e.values()
+                par[i, j, : len(vals)] = [vals[q.name] for q in kinds[kind[i, j]].params]
+        return cls(kind, mat, count, off, par, kinds, tuple(mats))
+
+    def slot_order(self, j: int) -> tuple[np.ndarray, np.ndarray]:
+        """Rows of slot ``j`` sorted by kind, and where each kind's block of them lies.
+
+        Returns
+        -------
+        order : ndarray of int, shape (n,)
+            Row indices: the rows whose slot ``j`` is empty first, then each kind's rows,
+            in increasing order within a kind (a stable sort).
+        edges : ndarray of int, shape (len(kinds) + 2,)
+            Kind ``ki`` occupies ``order[edges[ki + 1]:edges[ki + 2]]`` and the empty
+            slots ``order[:edges[1]]``.
+        """
+        K = len(self.kinds)
+        key = np.maximum(self.kind[:, j], -1) + 1              # 0 = empty, 1 + ki = kind ki
+        # a stable sort of small integers is a radix sort: linear in n
+        order = np.argsort(key.astype(np.int16) if K < 2**15 - 1 else key, kind="stable")
+        edges = np.zeros(K + 2, dtype=np.intp)
+        np.cumsum(np.bincount(key, minlength=K + 1), out=edges[1:])
+        return order, edges
+
+    def groups(self):
+        """``(slot j, kind index, rows)`` for every kind present in every slot.
+
+        Whole-population loops run over these (a handful), never over designs; ``rows``
+        are increasing.
+        """
+        for j in range(self.n_slots):
+            order, edges = self.slot_order(j)
+            for ki in range(len(self.kinds)):
+                if edges[ki + 2] > edges[ki + 1]:
+                    yield j, ki, order[edges[ki + 1]:edges[ki + 2]]
+
+    def design(self, i: int, name: str = "design") -> Design:
+        """Row ``i`` as a :class:`Design` (the inverse of :meth:`from_designs`)."""
+        elems = []
+        used: dict[str, Material] = {}
+        for j in range(self.n_slots):
+            k = int(self.kind[i, j])
+            if k < 0:
+                continue
+            kind = self.kinds[k]
+            m = self.materials[int(self.material[i, j])]
+            used[m.id] = m
+            params: dict[str, float | str] = {}
+            for c, q in enumerate(kind.params):
+                v = float(self.params[i, j, c])
+                params[q.name] = q.choices[int(round(v))] if q.choices else (int(round(v)) if q.integer else v)
+            elems.append(Element(kind.name, m.id, int(round(self.count[i, j])), float(self.offset_mm[i, j]), params))
+        return Design(tuple(elems), used, name=name)
