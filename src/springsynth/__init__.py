@@ -16,7 +16,7 @@ from __future__ import annotations
 
 import importlib
 
-__version__ = "0.1.0"
+from springsynth.model.version import __version__
 
 __all__ = [
     "__version__",

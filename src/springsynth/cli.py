@@ -41,7 +41,7 @@ def _guard(fn):
 
 
 def _caution():
-    from springsynth.io.runfolder import CAUTION
+    from springsynth.model.safety import CAUTION
 
     out.print(f"[dim]Caution: {CAUTION}[/]", soft_wrap=True)
 
@@ -387,7 +387,7 @@ def rerun(
 @_guard
 def report(run_dir: Path = typer.Argument(..., help="a run folder written by `springsynth run`")):
     """Rebuild a run folder's figures and self-contained report.html from its files (no new search)."""
-    from springsynth.report.html import build_report
+    from springsynth.io.runfolder import build_report
     from springsynth.io.runfolder import read_run
 
     path = build_report(read_run(run_dir))

@@ -5,7 +5,7 @@ polish), best feasible curve_error_pct, the time at which the best feasible erro
 fell under 2 %, and the hypervolume of the final Pareto set against that of pure random
 sampling of the same genome with the same number of evaluations (ratio > 1: the search
 beats random sampling). Hypervolumes are in the normalised objective space of
-``springsynth.search.loop.hypervolume`` (error / limits.max_error_pct, stress ratio /
+``springsynth.search.metrics.hypervolume`` (error / limits.max_error_pct, stress ratio /
 limits.stress_ratio, size / envelope volume; reference point (1, 1, 1)).
 
 Run:  python tests/benchmarks/bench_search.py [studies/x.toml ...] [--seed 1]
@@ -21,8 +21,10 @@ from pathlib import Path
 
 import numpy as np
 
-from springsynth.search.scoring import Encoding, score
-from springsynth.search.loop import hypervolume, random_genomes
+from springsynth.search.encoding import Encoding
+from springsynth.search.scoring import score
+from springsynth.search.metrics import hypervolume
+from springsynth.search.operators import random_genomes
 from springsynth.io.study_toml import load_study
 from springsynth.search.synthesis import synthesize
 

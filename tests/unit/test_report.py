@@ -13,8 +13,9 @@ import pytest
 from typer.testing import CliRunner
 
 from springsynth.report.plots import knee_index, plot_pareto, representatives
-from springsynth.report.html import build_report
-from springsynth.io.runfolder import CAUTION, read_run
+from springsynth.io.runfolder import build_report
+from springsynth.model.safety import CAUTION
+from springsynth.io.runfolder import read_run
 from springsynth.cli import app
 from tests.conftest import write_study, write_target
 

@@ -2,6 +2,8 @@
 
 from __future__ import annotations
 
+from typing import TYPE_CHECKING
+
 import io
 import json
 import math
@@ -12,27 +14,27 @@ from pathlib import Path
 import numpy as np
 import pandas as pd
 
-from springsynth import __version__
+from springsynth.model.version import __version__
 from springsynth.assembly.design import Design
 from springsynth.assembly.evaluate import evaluate_population
 from springsynth.assembly.slots import Slots
-from springsynth.io.design_toml import design_to_toml, load_design
+from springsynth.io.design_toml import design_to_toml, load_design, read_toml
 from springsynth.model.errors import InputError
+from springsynth.model.safety import CAUTION
 from springsynth.io.files import new_folder, write_bytes_atomic, write_text_atomic
 from springsynth.model.study import Study
+from springsynth.report.html import REPORT, ReportInput, render_report
 from springsynth.io.study_toml import load_study
-from springsynth.search.synthesis import Synthesis, curve_grid
+from springsynth.model.study import curve_grid
 
-__all__ = ["write_run", "read_run", "RunFolder", "CAUTION", "CHECKPOINT"]
+if TYPE_CHECKING:  # the run folder only reads a result's fields; the search is not loaded to write one
+    from springsynth.search.synthesis import Synthesis
+
+__all__ = ["write_run", "read_run", "build_report", "RunFolder", "CHECKPOINT"]
 
 #: file holding the search state of an interrupted run (``springsynth run --resume``)
 CHECKPOINT = "checkpoint.pkl"
 
-CAUTION = (
-    "Results are estimates from idealised analytic models. Springs store energy and flexures fail in "
-    "fatigue: build and test prototypes, check fatigue life, tolerances and the loading the models leave "
-    "out. Local codes, standards and licensed engineering practice take precedence over these results."
-)
 
 
 def _versions() -> dict[str, str]:
@@ -92,8 +94,6 @@ def write_run(res: Synthesis, out: Path, *, parent: str | None = None, overrides
         write_bytes_atomic(folder / CHECKPOINT, res.checkpoint)
     write_text_atomic(folder / "run.json", json.dumps(_plain(meta), indent=1) + "\n")
     if plots:  # figures and report.html from the folder alone, exactly as `springsynth report` does
-        from springsynth.report.html import build_report
-
         build_report(folder, study=st)
     return folder
 
@@ -158,3 +158,46 @@ def read_run(path: Path, *, with_study: bool = True) -> RunFolder:
         raise InputError(f"pareto.csv cannot be read ({e})", where=str(path)) from None
     designs = tuple(load_design(path / "designs" / f"{i}.toml") for i in table.get("design_id", []))
     return RunFolder(path, meta, table, designs)
+
+
+def _report_input(folder: Path | RunFolder, study: Study | None) -> ReportInput:
+    if isinstance(folder, RunFolder):
+        run = folder
+    elif study is not None and not (Path(folder) / "study.toml").exists():
+        run = read_run(Path(folder), with_study=False)
+    else:
+        run = read_run(Path(folder))
+    path = run.path
+    if study is None or (path / "study.toml").exists():
+        study = run.study()
+    raw = read_toml(path / "study.toml") if (path / "study.toml").exists() else dict(study.raw)
+    return ReportInput(path, run.meta, run.table, run.designs, study, raw)
+
+
+def build_report(folder: Path | RunFolder, *, study: Study | None = None) -> Path:
+    """Rebuild every figure and ``report.html`` of a run folder; returns the report's path.
+
+    Parameters
+    ----------
+    folder : Path or RunFolder
+        A folder written by ``springsynth run`` (or :func:`read_run` of one).
+    study : Study, optional
+        Used only when the folder has no ``study.toml`` (a study built in code); the
+        folder's own copy always wins, so ``run`` and ``report`` give the same result.
+
+    Notes
+    -----
+    Nothing is searched again (:func:`springsynth.report.html.render_report`). Every
+    file is written atomically.
+    """
+    run = _report_input(folder, study)
+    rendered = render_report(run)
+    for fname, png in rendered.figures.items():
+        write_bytes_atomic(run.folder / fname, png)
+    if rendered.design_figures:
+        (run.folder / "designs").mkdir(exist_ok=True)
+    for name, png in rendered.design_figures.items():
+        write_bytes_atomic(run.folder / "designs" / f"{name}.png", png)
+    out = run.folder / REPORT
+    write_text_atomic(out, rendered.html)
+    return out

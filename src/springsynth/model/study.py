@@ -13,6 +13,8 @@ from dataclasses import MISSING, dataclass, fields
 from pathlib import Path
 from typing import TYPE_CHECKING, Any, Mapping
 
+import numpy as np
+
 from springsynth.model.errors import InputError
 from springsynth.model.materials import Material
 from springsynth.model.target import Target
@@ -20,7 +22,7 @@ from springsynth.model.target import Target
 if TYPE_CHECKING:   # the kinds are elements (the layer above); a study only holds them
     from springsynth.elements import ElementKind
 
-__all__ = ["Envelope", "Limits", "SearchOptions", "Study", "DEFAULTS"]
+__all__ = ["Envelope", "Limits", "SearchOptions", "Study", "DEFAULTS", "curve_grid"]
 
 
 @dataclass(frozen=True)
@@ -89,3 +91,8 @@ def _defaults(cls) -> dict[str, Any]:
 
 #: every optional key of [limits] and [search] with its default (from the dataclasses above)
 DEFAULTS: dict[str, dict[str, Any]] = {"limits": _defaults(Limits), "search": _defaults(SearchOptions)}
+
+
+def curve_grid(study: Study, points: int = 101) -> np.ndarray:
+    """Stroke points for curves: the target's points and an even grid over [0, stroke], mm."""
+    return np.unique(np.r_[np.linspace(0.0, study.target.stroke_mm, points), study.target.x_mm])

@@ -1,8 +1,9 @@
-"""Figures and a self-contained ``report.html`` for a run folder, built from the folder alone.
+"""Figures and a self-contained ``report.html`` for a run, rendered from the run folder's contents.
 
-:func:`build_report` reads what ``springsynth run`` wrote (``run.json``, ``pareto.csv``,
+:func:`render_report` takes what ``springsynth run`` wrote (read back by
+:func:`springsynth.io.runfolder.build_report`: ``run.json``, ``pareto.csv``,
 ``designs/*.toml``, ``study.toml``, ``target.csv``), re-evaluates the Pareto designs with
-the analytic models (no search), and writes
+the analytic models (no search), and renders
 
 * ``pareto.png``, ``curves.png``, ``convergence.png`` and ``designs/<id>.png``;
 * ``report.html``: run summary, figures, a sortable table of the designs and a card per
@@ -29,13 +30,11 @@ import pandas as pd
 
 from springsynth.assembly.design import Design
 from springsynth.assembly.evaluate import Response, evaluate_design
-from springsynth.io.design_toml import read_toml
-from springsynth.io.files import write_bytes_atomic, write_text_atomic
-from springsynth.io.runfolder import CAUTION, RunFolder, read_run
+from springsynth.model.safety import CAUTION
 from springsynth.model.study import Study
 from springsynth.elements import get_kind
 
-__all__ = ["build_report", "REPORT", "BASE_COLUMNS"]
+__all__ = ["render_report", "RenderedReport", "ReportInput", "REPORT", "BASE_COLUMNS", "extra_columns"]
 
 REPORT = "report.html"
 #: pareto.csv columns every run has; any other column that is not an element parameter
@@ -50,7 +49,9 @@ _ROLE_ORDER = ("lowest error", "knee", "smallest", "lowest stress")
 
 
 @dataclass(frozen=True)
-class _Run:
+class ReportInput:
+    """What a report is made of: a run folder's contents, read by :mod:`springsynth.io.runfolder`."""
+
     folder: Path
     meta: dict
     table: pd.DataFrame
@@ -58,19 +59,6 @@ class _Run:
     study: Study
     study_raw: dict
 
-
-def _load(folder: Path | RunFolder, study: Study | None) -> _Run:
-    if isinstance(folder, RunFolder):
-        run = folder
-    elif study is not None and not (Path(folder) / "study.toml").exists():
-        run = read_run(Path(folder), with_study=False)
-    else:
-        run = read_run(Path(folder))
-    path = run.path
-    if study is None or (path / "study.toml").exists():
-        study = run.study()
-    raw = read_toml(path / "study.toml") if (path / "study.toml").exists() else dict(study.raw)
-    return _Run(path, run.meta, run.table, run.designs, study, raw)
 
 
 def _feasible(table: pd.DataFrame) -> np.ndarray:
@@ -96,10 +84,10 @@ def extra_columns(table: pd.DataFrame) -> list[str]:
 # ------------------------------------------------------------------------- figures
 
 
-def _figures(run: _Run) -> tuple[dict[str, bytes], dict[str, bytes], dict[str, Response], dict[str, list[str]]]:
+def _figures(run: ReportInput) -> tuple[dict[str, bytes], dict[str, bytes], dict[str, Response], dict[str, list[str]]]:
     """All figures as PNG bytes (run-level, per design), the responses and each design's roles."""
     from springsynth.report import plots as P
-    from springsynth.search.synthesis import curve_grid
+    from springsynth.model.study import curve_grid
 
     st = run.study
     ids = [d.name for d in run.designs]
@@ -257,7 +245,7 @@ def _is_numeric(series: pd.Series) -> bool:
     return pd.api.types.is_numeric_dtype(series) and not pd.api.types.is_bool_dtype(series)
 
 
-def _summary(run: _Run) -> str:
+def _summary(run: ReportInput) -> str:
     m, st = run.meta, run.study
     raw = run.study_raw
     env = st.envelope
@@ -312,7 +300,7 @@ def _summary(run: _Run) -> str:
     return "<dl class=summary>" + "".join(f"<dt>{k}</dt><dd>{val}</dd>" for k, val in rows) + "</dl>"
 
 
-def _pareto_table(run: _Run, roles: Mapping[str, list[str]]) -> str:
+def _pareto_table(run: ReportInput, roles: Mapping[str, list[str]]) -> str:
     tab = run.table
     feas = _feasible(tab)
     extras = extra_columns(tab)
@@ -402,7 +390,7 @@ def _model_notes(d: Design) -> str:
     return "<ul class=notes>" + "".join(items) + "</ul>"
 
 
-def _card(run: _Run, i: int, d: Design, r: Response, png: bytes | None, roles: Sequence[str]) -> str:
+def _card(run: ReportInput, i: int, d: Design, r: Response, png: bytes | None, roles: Sequence[str]) -> str:
     row = run.table.iloc[i]
     feas = bool(_feasible(run.table)[i])
     tags = "".join(f'<span class="badge role">{_e(x)}</span>' for x in roles)
@@ -437,9 +425,9 @@ def _card(run: _Run, i: int, d: Design, r: Response, png: bytes | None, roles: S
     return "".join(parts)
 
 
-def _html(run: _Run, figs: Mapping[str, bytes], per_design: Mapping[str, bytes], responses: Mapping[str, Response],
+def _html(run: ReportInput, figs: Mapping[str, bytes], per_design: Mapping[str, bytes], responses: Mapping[str, Response],
           roles: Mapping[str, list[str]]) -> str:
-    from springsynth import __version__
+    from springsynth.model.version import __version__
 
     name = run.meta.get("study", run.study.name)
     caution = f'<div class=caution role=note><b>Caution.</b> {_e(CAUTION)}</div>'
@@ -488,30 +476,20 @@ and process move. This report holds no external resources.</footer>
 # ------------------------------------------------------------------------- entry point
 
 
-def build_report(folder: Path | RunFolder, *, study: Study | None = None) -> Path:
-    """Rebuild every figure and ``report.html`` of a run folder; returns the report's path.
+@dataclass(frozen=True)
+class RenderedReport:
+    """A report as bytes and text, ready to write: run-level figures, per-design figures, the page."""
 
-    Parameters
-    ----------
-    folder : Path or RunFolder
-        A folder written by ``springsynth run`` (or :func:`~springsynth.io.runfolder.read_run` of one).
-    study : Study, optional
-        Used only when the folder has no ``study.toml`` (a study built in code); the
-        folder's own copy always wins, so ``run`` and ``report`` give the same result.
+    figures: dict[str, bytes]
+    design_figures: dict[str, bytes]
+    html: str
 
-    Notes
-    -----
+
+def render_report(run: ReportInput) -> RenderedReport:
+    """Every figure and the self-contained HTML page of a run (nothing is written here).
+
     Nothing is searched again: the designs are re-evaluated with the same analytic
-    models the search used. Every file is written atomically.
+    models the search used.
     """
-    run = _load(folder, study)
     figs, per_design, responses, roles = _figures(run)
-    for fname, png in figs.items():
-        write_bytes_atomic(run.folder / fname, png)
-    if per_design:
-        (run.folder / "designs").mkdir(exist_ok=True)
-    for name, png in per_design.items():
-        write_bytes_atomic(run.folder / "designs" / f"{name}.png", png)
-    out = run.folder / REPORT
-    write_text_atomic(out, _html(run, figs, per_design, responses, roles))
-    return out
+    return RenderedReport(figs, per_design, _html(run, figs, per_design, responses, roles))

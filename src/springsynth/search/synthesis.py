@@ -12,11 +12,12 @@ import pandas as pd
 
 from springsynth.assembly.design import Design
 from springsynth.model.errors import InputError
-from springsynth.search.scoring import CONSTRAINTS, Encoding
+from springsynth.search.scoring import CONSTRAINTS
+from springsynth.search.encoding import Encoding
 from springsynth.search.loop import Progress, run_search
 from springsynth.model.study import Study
 
-__all__ = ["synthesize", "Synthesis", "design_table", "curve_grid"]
+__all__ = ["synthesize", "Synthesis", "design_table"]
 
 _CONSTRAINT_WORDS = {
     "curve_error": "curve error exceeds limits.max_error_pct",
@@ -87,11 +88,6 @@ class Synthesis:
                 detail = " (" + ", ".join(f"{k} +{100 * a:.0f}%" for k, a in sorted(worst.items(), key=lambda kv: -kv[1])) + ")"
             out.append(f"{_CONSTRAINT_WORDS[name]} by {100 * v:.1f}%{detail}" if v < 1e5 else f"{name}: model failed (NaN)")
         return "; ".join(out)
-
-
-def curve_grid(study: Study, points: int = 101) -> np.ndarray:
-    """Stroke points for curves: the target's points and an even grid over [0, stroke], mm."""
-    return np.unique(np.r_[np.linspace(0.0, study.target.stroke_mm, points), study.target.x_mm])
 
 
 def design_table(res: Synthesis) -> pd.DataFrame:
