@@ -16,6 +16,7 @@ from rich.markup import escape
 from rich.table import Table
 
 from springsynth.model.errors import InputError
+from springsynth.model.numbers import table_number
 
 app = typer.Typer(add_completion=False, no_args_is_help=True, pretty_exceptions_enable=False,
                   help="springsynth: from a target force-displacement curve to Pareto-optimal springs and flexures.")
@@ -108,9 +109,10 @@ def evaluate(
         write_text_atomic(out_csv, frame.to_csv(index=False, float_format="%.8g", lineterminator="\n"))
         out.print(f"wrote {out_csv}")
     if plot is not None:
-        from springsynth.report.plots import plot_design, save
+        from springsynth.io.files import save_figure
+        from springsynth.report.plots import plot_design
 
-        save(plot_design(d, r, target=target, title=f"{d.name}: {len(d.elements)} element(s) in parallel"), plot)
+        save_figure(plot_design(d, r, target=target, title=f"{d.name}: {len(d.elements)} element(s) in parallel"), plot)
         out.print(f"wrote {plot}")
     _caution()
     if outside:
@@ -171,8 +173,8 @@ def materials(fmt: Fmt = typer.Option(Fmt.table, "--format", help="table or csv"
 
     import pandas as pd
 
-    from springsynth.model.materials import catalogue
     from springsynth.elements import registry
+    from springsynth.model.materials import catalogue
 
     rows = []
     for m in catalogue().values():
@@ -190,17 +192,12 @@ def materials(fmt: Fmt = typer.Option(Fmt.table, "--format", help="table or csv"
     for c in ("id", "E_MPa", "G_MPa", "nu", "density_kg_m3", "yield_MPa", "fatigue_MPa", "law", "kinds"):
         t.add_column(c)
     for r in rows:
-        t.add_row(r["id"], _num(r["E_MPa"]), _num(r["G_MPa"]), f"{r['nu']:.3g}", _num(r["density_kg_m3"]),
-                  _num(r["yield_MPa"]), _num(r["fatigue_MPa"]), r["law"], r["kinds"])
+        t.add_row(r["id"], table_number(r["E_MPa"]), table_number(r["G_MPa"]), f"{r['nu']:.3g}", table_number(r["density_kg_m3"]),
+                  table_number(r["yield_MPa"]), table_number(r["fatigue_MPa"]), r["law"], r["kinds"])
     out.print(t)
     out.print("[dim]Typical values; grade and process move them. `--format csv` adds the sources.[/]")
 
 
-def _num(v: float) -> str:
-    """Plain figures for a table: 203000, 75800, 1.24; blank for NaN."""
-    if math.isnan(v):
-        return ""
-    return f"{v:.0f}" if abs(v) >= 100 else f"{v:.3g}"
 
 
 # ------------------------------------------------------------------------- check
@@ -387,8 +384,7 @@ def rerun(
 @_guard
 def report(run_dir: Path = typer.Argument(..., help="a run folder written by `springsynth run`")):
     """Rebuild a run folder's figures and self-contained report.html from its files (no new search)."""
-    from springsynth.io.runfolder import build_report
-    from springsynth.io.runfolder import read_run
+    from springsynth.io.runfolder import build_report, read_run
 
     path = build_report(read_run(run_dir))
     out.print(f"wrote {path}")
@@ -499,9 +495,10 @@ def tolerance(
     seed: int = typer.Option(0, "--seed", min=0),
 ):
     """Monte Carlo over manufacturing tolerances: force band, share of parts in spec, sensitivities."""
+    from springsynth.checks.tolerance import tolerance_analysis
+    from springsynth.io.checks import write_tolerance
     from springsynth.io.design_toml import load_design
     from springsynth.io.files import new_folder
-    from springsynth.checks.tolerance import tolerance_analysis, write_tolerance
 
     d = load_design(design)
     x, target = _stroke_points(at, to, points, "tolerance")

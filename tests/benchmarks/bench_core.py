@@ -22,10 +22,10 @@ import time
 import numpy as np
 
 from springsynth._allocator import keep_temporaries_on_heap
-from springsynth.assembly.slots import Slots
 from springsynth.assembly.evaluate import evaluate_population
-from springsynth.model.materials import catalogue
+from springsynth.assembly.slots import Slots
 from springsynth.elements import registry
+from springsynth.model.materials import catalogue
 
 
 def random_population(n: int, slots: int = 3, seed: int = 0, kinds=None) -> Slots:

@@ -22,10 +22,10 @@ from pathlib import Path
 import numpy as np
 
 from springsynth.assembly.evaluate import evaluate_design
-from springsynth.io.study_toml import load_study
-from springsynth.search.synthesis import synthesize
 from springsynth.assembly.slots import Slots
 from springsynth.checks.tolerance import robust_error, tolerance_analysis
+from springsynth.io.study_toml import load_study
+from springsynth.search.synthesis import synthesize
 
 STUDY = """name = "bench-robust"
 [target]

@@ -21,11 +21,11 @@ from pathlib import Path
 
 import numpy as np
 
+from springsynth.io.study_toml import load_study
 from springsynth.search.encoding import Encoding
-from springsynth.search.scoring import score
 from springsynth.search.metrics import hypervolume
 from springsynth.search.operators import random_genomes
-from springsynth.io.study_toml import load_study
+from springsynth.search.scoring import score
 from springsynth.search.synthesis import synthesize
 
 ROOT = Path(__file__).resolve().parents[2]

@@ -145,8 +145,8 @@ def load(path=TABLE):
 
 def kernel_force(row, constants=None):
     """Kernel force for one table row (optionally with other constants)."""
-    from springsynth.model.materials import MaterialArrays
     from springsynth.elements import elastomer_pad as ep
+    from springsynth.model.materials import MaterialArrays
     saved = {k: getattr(ep, k) for k in FITTED}
     if constants is not None:
         ep.C_H = tuple(constants[:3])

@@ -11,10 +11,10 @@ import numpy as np
 import pytest
 from typer.testing import CliRunner
 
+from springsynth.cli import app
 from springsynth.io.runfolder import read_run, write_run
 from springsynth.io.study_toml import load_study
 from springsynth.search.synthesis import synthesize
-from springsynth.cli import app
 from tests.conftest import write_study, write_target
 
 runner = CliRunner()

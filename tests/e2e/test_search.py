@@ -9,11 +9,11 @@ from typer.testing import CliRunner
 
 from springsynth.assembly.design import Design, Element
 from springsynth.assembly.evaluate import evaluate_design
-from springsynth.io.design_toml import load_design
-from springsynth.model.materials import catalogue
-from springsynth.io.study_toml import load_study
-from springsynth.search.synthesis import synthesize
 from springsynth.cli import app
+from springsynth.io.design_toml import load_design
+from springsynth.io.study_toml import load_study
+from springsynth.model.materials import catalogue
+from springsynth.search.synthesis import synthesize
 from tests.conftest import write_study, write_target
 
 runner = CliRunner()

@@ -27,16 +27,15 @@ import pytest
 from hypothesis import given, settings
 from hypothesis import strategies as st
 
-from springsynth.assembly.slots import Slots
 from springsynth.assembly.evaluate import evaluate_population
+from springsynth.assembly.slots import Slots
+from springsynth.elements import registry
 from springsynth.io.design_toml import design_from_mapping, read_toml
+from springsynth.io.study_toml import study_from_mapping
+from springsynth.io.target_csv import load_target
 from springsynth.model.errors import InputError
 from springsynth.model.materials import catalogue
-from springsynth.io.study_toml import study_from_mapping
 from springsynth.model.target import Target
-from springsynth.io.target_csv import load_target
-from springsynth.elements import registry
-
 from tests.robustness.conftest import FUZZ, examples
 
 # thousands of small rewrites: a memory file system when there is one (a disk one may take ms per write)
@@ -247,7 +246,7 @@ def test_design_mapping_raises_only_input_error(doc):
 
 
 def _toml_text(doc) -> str:
-    from springsynth.io.design_toml import _fmt
+    from springsynth.io.design_toml import toml_value as _fmt
 
     lines, tables = [], []
     for k, v in doc.items():

@@ -21,10 +21,10 @@ import warnings
 import numpy as np
 import pytest
 
-from springsynth.assembly.slots import Slots
 from springsynth.assembly.evaluate import envelope_margins, evaluate_design, evaluate_population
-from springsynth.model.materials import Material, MaterialArrays, catalogue
+from springsynth.assembly.slots import Slots
 from springsynth.elements import registry
+from springsynth.model.materials import Material, MaterialArrays, catalogue
 
 KINDS = sorted(registry())
 

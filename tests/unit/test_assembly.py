@@ -3,9 +3,9 @@
 import numpy as np
 import pytest
 
-from springsynth.model.study import Envelope
-from springsynth.assembly.slots import Slots
 from springsynth.assembly.evaluate import envelope_margins, evaluate_design, evaluate_population
+from springsynth.assembly.slots import Slots
+from springsynth.model.study import Envelope
 from tests.conftest import blade, design
 
 X = np.linspace(0, 4, 41)

@@ -5,8 +5,8 @@ from __future__ import annotations
 import numpy as np
 import pytest
 
-from springsynth.model.materials import MaterialArrays, material_from_mapping
 from springsynth.elements import get_kind, kind_names
+from springsynth.model.materials import MaterialArrays, material_from_mapping
 
 BLADE = get_kind("blade_clamped")
 ARCH = get_kind("arch")

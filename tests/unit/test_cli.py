@@ -6,8 +6,8 @@ import sys
 import pandas as pd
 from typer.testing import CliRunner
 
-from springsynth.io.design_toml import design_to_toml
 from springsynth.cli import app
+from springsynth.io.design_toml import design_to_toml
 from tests.conftest import blade, design
 
 runner = CliRunner()

@@ -7,8 +7,8 @@ import math
 import numpy as np
 import pytest
 
-from springsynth.model.materials import Material, MaterialArrays
 from springsynth.elements import get_kind, kind_names
+from springsynth.model.materials import Material, MaterialArrays
 
 COLUMN = get_kind("column")
 N = 600          # more than one row block of the kernel at M = 64

@@ -7,8 +7,8 @@ import math
 import numpy as np
 import pytest
 
-from springsynth.model.materials import Material, MaterialArrays
 from springsynth.elements import get_kind, kind_names
+from springsynth.model.materials import Material, MaterialArrays
 
 NAMES = ("blade_guided", "blade_cantilever", "wire_guided")
 N = 400

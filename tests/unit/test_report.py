@@ -12,11 +12,10 @@ import pandas as pd
 import pytest
 from typer.testing import CliRunner
 
-from springsynth.report.plots import knee_index, plot_pareto, representatives
-from springsynth.io.runfolder import build_report
-from springsynth.model.safety import CAUTION
-from springsynth.io.runfolder import read_run
 from springsynth.cli import app
+from springsynth.io.runfolder import build_report, read_run
+from springsynth.model.safety import CAUTION
+from springsynth.report.plots import knee_index, plot_pareto, representatives
 from tests.conftest import write_study, write_target
 
 runner = CliRunner()

@@ -5,9 +5,9 @@ from __future__ import annotations
 import numpy as np
 import pytest
 
-from springsynth.model.materials import Material, MaterialArrays, material_from_mapping
 from springsynth.elements import get_kind, kind_names
 from springsynth.elements.elastomer_pad import MODEL_STRAIN_LIMIT
+from springsynth.model.materials import Material, MaterialArrays, material_from_mapping
 
 RIBBON = get_kind("ribbon")
 PAD = get_kind("elastomer_pad")
@@ -177,8 +177,8 @@ def test_pad_kernel_matches_its_pointwise_model():
     # The kernel interpolates the secant modulus between three strains; the point-by-point
     # model (nominal_stress at every point) is its reference. Random pads of the catalogue
     # elastomers over the declared range: measured 0.13 %, tolerance 0.5 %.
-    from springsynth.model.materials import catalogue
     from springsynth.elements import elastomer_pad as ep
+    from springsynth.model.materials import catalogue
     cat = catalogue()
     rng = np.random.default_rng(1)
     n = 2000

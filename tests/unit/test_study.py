@@ -2,8 +2,8 @@
 
 import pytest
 
-from springsynth.model.errors import InputError
 from springsynth.io.study_toml import apply_overrides, load_study
+from springsynth.model.errors import InputError
 
 
 def test_defaults_and_relative_target(linear_study):

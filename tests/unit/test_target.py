@@ -3,8 +3,8 @@
 import numpy as np
 import pytest
 
-from springsynth.model.errors import InputError
 from springsynth.io.target_csv import MAX_POINTS, load_target
+from springsynth.model.errors import InputError
 from springsynth.model.target import target_from_arrays
 
 

@@ -8,11 +8,11 @@ import numpy as np
 import pytest
 from typer.testing import CliRunner
 
-from springsynth.checks import tolerance as T
 from springsynth.assembly.slots import Slots
-from springsynth.model.target import target_from_arrays
+from springsynth.checks import tolerance as T
 from springsynth.cli import app
-
+from springsynth.elements import get_kind
+from springsynth.model.target import target_from_arrays
 from tests.conftest import blade, design, write_target
 
 runner = CliRunner()
@@ -28,7 +28,8 @@ def test_spread_matches_first_order_propagation():
     x = np.linspace(0.0, x_end, 5)
     res = T.tolerance_analysis(d, x, n_samples=4000, seed=2)
     cls = np.array([0])
-    tol = lambda name, v: float(T.param_tolerance("blade_guided", name, np.array([v]), cls)[0]) / 3.0  # noqa: E731
+    kind = get_kind("blade_guided")
+    tol = lambda name, v: float(T.param_tolerance(kind.param(name), np.array([v]), cls)[0]) / 3.0  # noqa: E731
     rel = math.sqrt((3 * tol("thickness_mm", t) / t) ** 2 + (T.modulus_tolerance(cls)[0] / 3) ** 2
                     + (tol("width_mm", b) / b) ** 2 + (3 * tol("length_mm", L) / L) ** 2
                     + (float(T.offset_tolerance(cls)[0]) / 3 / x_end) ** 2)
@@ -91,8 +92,8 @@ def test_robust_error_deterministic_and_vectorised(linear_study):
 
 
 def test_score_uses_robust_error_when_asked(tmp_path):
-    from springsynth.search.scoring import score
     from springsynth.io.study_toml import load_study
+    from springsynth.search.scoring import score
     from tests.conftest import write_study
 
     x = np.linspace(0, 6, 13)

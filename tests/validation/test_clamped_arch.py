@@ -14,9 +14,9 @@ import pytest
 from scipy.integrate import quad, solve_bvp
 from scipy.optimize import brentq, minimize
 
-from springsynth.model.materials import MaterialArrays, material_from_mapping
 from springsynth.elements import arch as arch_mod
 from springsynth.elements import get_kind
+from springsynth.model.materials import MaterialArrays, material_from_mapping
 
 BLADE = get_kind("blade_clamped")
 ARCH = get_kind("arch")

@@ -25,8 +25,8 @@ from scipy.integrate import solve_bvp
 from scipy.optimize import brentq
 from scipy.special import ellipe, ellipk
 
-from springsynth.model.materials import MaterialArrays, material_from_mapping
 from springsynth.elements import get_kind
+from springsynth.model.materials import MaterialArrays, material_from_mapping
 
 COLUMN = get_kind("column")
 PINNED, CLAMPED = 0.0, 1.0

@@ -15,8 +15,8 @@ import pytest
 from scipy.integrate import solve_bvp
 from scipy.optimize import brentq
 
-from springsynth.model.materials import Material, MaterialArrays
 from springsynth.elements import _elastica, get_kind
+from springsynth.model.materials import Material, MaterialArrays
 
 # Model requirement of the project: at most 2 % from the exact elastica ...
 REQUIRED_FORCE_RTOL = 0.02

@@ -27,9 +27,9 @@ import pytest
 from scipy.integrate import solve_bvp
 from scipy.interpolate import CubicSpline
 
-from springsynth.model.materials import MaterialArrays, catalogue, material_from_mapping
 from springsynth.elements import blade_clamped as bc_mod
 from springsynth.elements import get_kind
+from springsynth.model.materials import MaterialArrays, catalogue, material_from_mapping
 
 BLADE = get_kind("blade_clamped")
 ROOT = Path(__file__).resolve().parents[2]

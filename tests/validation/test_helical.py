@@ -14,7 +14,6 @@ import math
 import numpy as np
 import pytest
 
-from springsynth.model.materials import MaterialArrays, material_from_mapping
 from springsynth.elements import get_kind
 from springsynth.elements.helical_compression import (
     bergstrasser_factor,
@@ -23,6 +22,7 @@ from springsynth.elements.helical_compression import (
     wahl_factor,
 )
 from springsynth.elements.helical_extension import free_length, initial_stress_range
+from springsynth.model.materials import MaterialArrays, material_from_mapping
 
 COMP = get_kind("helical_compression")
 EXT = get_kind("helical_extension")

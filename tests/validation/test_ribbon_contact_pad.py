@@ -14,12 +14,6 @@ from pathlib import Path
 import numpy as np
 import pytest
 
-from springsynth.model.materials import (
-    Material,
-    MaterialArrays,
-    catalogue,
-    material_from_mapping,
-)
 from springsynth.elements import get_kind
 from springsynth.elements._stretching import ogden_uniaxial_nominal
 from springsynth.elements.elastomer_pad import (
@@ -29,6 +23,12 @@ from springsynth.elements.elastomer_pad import (
     pressure_factor,
     shape_factor,
     torsion_coefficient,
+)
+from springsynth.model.materials import (
+    Material,
+    MaterialArrays,
+    catalogue,
+    material_from_mapping,
 )
 
 RIBBON = get_kind("ribbon")

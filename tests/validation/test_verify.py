@@ -11,9 +11,10 @@ import numpy as np
 import pytest
 
 from springsynth.assembly.design import Design, Element
+from springsynth.checks import verify as V
+from springsynth.checks.verify import coils, elastica
 from springsynth.model.materials import catalogue
 from springsynth.model.target import target_from_arrays
-from springsynth.checks import verify as V
 
 RTOL = 0.005
 
@@ -46,7 +47,7 @@ def test_small_deflection_limits():
 def test_pinned_elastica_post_buckling(start):
     # pinned-pinned elliptic-integral elastica: P/Pcr = 1.05299 at Delta/L = 0.1 (physics.md sec. 7, computed);
     # the clamped column is two pinned ones of half span in series: the same P/Pcr at the same Delta/L
-    P, _ = V.solve_straight_column(np.array([0.1]), lam2=math.inf, start=start, c_over_l=1e-3)
+    P, _ = elastica.solve_straight_column(np.array([0.1]), lam2=math.inf, start=start, c_over_l=1e-3)
     pcr = math.pi**2 / 4.0 if start == "pinned" else math.pi**2
     assert close(P[0] / pcr, 1.05299)
 
@@ -76,7 +77,7 @@ def test_helical_case_a():
     # with direct shear, bending and axial terms (zero pitch) the rate drops by about k_s / (2 C^2) (Shigley's
     # (1 + 1/(2C^2)) factor with the Cowper shear factor): here 0.56 %
     k_full = V.helical_rate_castigliano(2.0, 20.0, 10.0, 0.0, 200_000.0, 81_000.0, 0.3)
-    assert close(k_full, 2.0250 / (1 + V._cowper_shear(0.3) / (2 * 10.0**2)), 1e-4)
+    assert close(k_full, 2.0250 / (1 + coils._cowper_shear(0.3) / (2 * 10.0**2)), 1e-4)
 
 
 def test_extension_hooks_add_g_over_e():

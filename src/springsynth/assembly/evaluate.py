@@ -23,8 +23,8 @@ import numpy as np
 
 from springsynth.assembly.design import Design
 from springsynth.assembly.slots import Slots
-from springsynth.model.study import Envelope
 from springsynth.model.materials import MaterialArrays
+from springsynth.model.study import Envelope
 
 __all__ = ["Response", "evaluate_population", "evaluate_design", "envelope_margins"]
 

@@ -61,13 +61,14 @@ from functools import lru_cache
 import numpy as np
 
 from springsynth.assembly.design import Design
-from springsynth.assembly.slots import Slots
 from springsynth.assembly.evaluate import evaluate_population
+from springsynth.assembly.slots import Slots
+from springsynth.elements import Param
 from springsynth.model.errors import InputError
 from springsynth.model.materials import Material
 
-__all__ = ["tolerance_analysis", "ToleranceResult", "robust_error", "PROCESSES", "plot_tolerance",
-           "write_tolerance", "modulus_tolerance", "param_tolerance"]
+__all__ = ["tolerance_analysis", "ToleranceResult", "robust_error", "PROCESSES", "modulus_tolerance",
+           "param_tolerance"]
 
 PROCESSES = ("auto", "rolled_strip", "drawn_wire", "machined", "moulded", "moulded_rubber", "printed")
 #: +-T is read as +-3 sigma
@@ -132,12 +133,13 @@ def modulus_tolerance(cls: np.ndarray) -> np.ndarray:
     return np.array([0.03, 0.10, 0.15])[cls]
 
 
-def param_tolerance(kind_name: str, param: str, v: np.ndarray, cls: np.ndarray, process: str = "auto") -> np.ndarray:
+def param_tolerance(q: Param, v: np.ndarray, cls: np.ndarray, process: str = "auto") -> np.ndarray:
     """+- tolerance of one parameter (its own unit), shape of ``v`` (0 where not perturbed).
 
     Parameters
     ----------
-    kind_name, param : str
+    q : Param
+        The parameter; its ``tolerance`` class (declared by its kind) picks the process.
     v : ndarray, shape (n,)
         Nominal values.
     cls : ndarray of int, shape (n,)
@@ -146,31 +148,25 @@ def param_tolerance(kind_name: str, param: str, v: np.ndarray, cls: np.ndarray, 
         ``auto`` or one of :data:`PROCESSES` to force it for linear dimensions.
     """
     v = np.asarray(v, dtype=float)
-    auto = process == "auto"
+    tc = q.tolerance
     by_cls = lambda: np.select([cls == 0, cls == 1], [_linear("machined", v), _linear("moulded", v)],  # noqa: E731
                                _linear("moulded_rubber", v))
-    if param == "active_coils":
-        return np.full(v.shape, 0.1)
-    if param in ("mean_diameter_mm", "free_length_mm"):
-        return 0.015 * v
-    if param == "initial_tension_N":
-        return 0.10 * v
-    if param == "natural_radius_mm":
-        return 0.05 * v
-    if param == "ends":
-        return np.zeros(v.shape)
-    if not param.endswith("_mm"):
-        return np.zeros(v.shape)
-    if not auto:
-        if process in ("rolled_strip", "drawn_wire") and param not in ("thickness_mm", "wire_diameter_mm"):
+    fixed = {"coils": lambda: np.full(v.shape, 0.1), "coiling": lambda: 0.015 * v, "tension": lambda: 0.10 * v,
+             "set_radius": lambda: 0.05 * v, "none": lambda: np.zeros(v.shape)}
+    if tc in fixed:
+        return fixed[tc]()
+    if tc not in ("linear", "width", "strip", "wire"):
+        raise ValueError(f"{q.name}: unknown tolerance class {tc!r}")
+    if process != "auto":
+        if process in ("rolled_strip", "drawn_wire") and tc not in ("strip", "wire"):
             return by_cls()
         return _linear(process, v)
-    if param == "wire_diameter_mm":
+    if tc == "wire":
         return _linear("drawn_wire", v)
-    if param == "thickness_mm":
+    if tc == "strip":
         return np.select([cls == 0, cls == 1], [_linear("rolled_strip", v), _linear("moulded", v)],
                          _linear("moulded_rubber", v))
-    if param == "width_mm":
+    if tc == "width":
         return np.where(cls == 0, 0.10, by_cls())
     return by_cls()
 
@@ -202,7 +198,7 @@ def _sigmas(slots: Slots, process: str = "auto") -> _Sigmas:
         kind = slots.kinds[ki]
         cls = mcls[slots.material[rows, j]]
         for c, q in enumerate(kind.params):
-            sp[rows, j, c] = param_tolerance(kind.name, q.name, slots.params[rows, j, c], cls, process) \
+            sp[rows, j, c] = param_tolerance(q, slots.params[rows, j, c], cls, process) \
                 / SIGMAS_PER_TOLERANCE
         so[rows, j] = offset_tolerance(cls) / SIGMAS_PER_TOLERANCE
     return _Sigmas(sp, so, modulus_tolerance(mcls) / SIGMAS_PER_TOLERANCE)
@@ -352,7 +348,7 @@ def _quantities(design: Design, slots: Slots, sig: _Sigmas):
         for c, q in enumerate(kind.params):
             s = sig.params[0, j, c]
             if s > 0:
-                src = _source(kind.name, q.name, slots.materials[slots.material[0, j]])
+                src = _source(q, slots.materials[slots.material[0, j]])
                 out.append((f"e{j + 1}.{q.name}", "param", j, c, s, slots.params[0, j, c], src))
         out.append((f"e{j + 1}.offset_mm", "offset", j, -1, sig.offset[0, j], e.offset_mm, SOURCES["offset"]))
         m = slots.material[0, j]
@@ -360,25 +356,18 @@ def _quantities(design: Design, slots: Slots, sig: _Sigmas):
     return out
 
 
-def _source(kind_name: str, param: str, mat: Material) -> str:
+def _source(q: Param, mat: Material) -> str:
+    """Where the tolerance of parameter ``q`` of an element in ``mat`` comes from."""
+    by_class = {"wire": "drawn_wire", "coiling": "coiling", "coils": "coiling", "tension": "initial_tension",
+                "set_radius": "ribbon_radius"}
+    if q.tolerance in by_class:
+        return SOURCES[by_class[q.tolerance]]
     cls = int(material_class(np.array([mat.E_MPa]), np.array([mat.hyperelastic]))[0])
-    if param == "wire_diameter_mm":
-        return SOURCES["drawn_wire"]
-    if param in ("mean_diameter_mm", "free_length_mm", "active_coils"):
-        return SOURCES["coiling"]
-    if param == "initial_tension_N":
-        return SOURCES["initial_tension"]
-    if param == "natural_radius_mm":
-        return SOURCES["ribbon_radius"]
     if cls == 2:
         return SOURCES["moulded_rubber"]
     if cls == 1:
         return SOURCES["moulded"]
-    if param == "thickness_mm":
-        return SOURCES["rolled_strip"]
-    if param == "width_mm":
-        return SOURCES["slit_width"]
-    return SOURCES["machined"]
+    return SOURCES[{"strip": "rolled_strip", "width": "slit_width"}.get(q.tolerance, "machined")]
 
 
 def tolerance_analysis(design: Design, x_mm: np.ndarray, *, target=None, n_samples: int = 2000, seed: int = 0,
@@ -489,55 +478,5 @@ def _at(F: np.ndarray, x: np.ndarray, xt: np.ndarray) -> np.ndarray:
 
 # --------------------------------------------------------------------------- figures and files
 
-def plot_tolerance(res: ToleranceResult, *, target=None, ax=None):
-    """Force band of the samples against the target band; returns the axes."""
-    import matplotlib.pyplot as plt
-
-    if ax is None:
-        _, ax = plt.subplots(figsize=(7.5, 4.8), dpi=120)
-    x = res.x_mm
-    ax.fill_between(x, res.p05_N, res.p95_N, color="tab:blue", alpha=0.30, lw=0,
-                    label="parts: 5th-95th percentile")
-    ax.plot(x, res.p50_N, color="tab:blue", lw=1.2, ls="--", label="parts: median")
-    ax.plot(x, res.nominal_N, color="tab:blue", lw=2.0, label="nominal design")
-    if target is not None:
-        if target.has_band:
-            ax.plot(target.x_mm, target.force_lo_N, color="black", lw=1.0, ls=":", label="target band")
-            ax.plot(target.x_mm, target.force_hi_N, color="black", lw=1.0, ls=":")
-        ax.plot(target.x_mm, target.force_N, "o", color="black", ms=3.5, label="target")
-    title = f"{res.design}: {res.force_N.shape[0]} Monte Carlo parts"
-    if math.isfinite(res.share_in_band):
-        title += f", {100 * res.share_in_band:.1f} % inside the band"
-    ax.set_title(title, fontsize=10)
-    ax.set_xlabel("displacement [mm]")
-    ax.set_ylabel("force [N]")
-    ax.grid(True, alpha=0.3)
-    ax.legend(loc="best", fontsize=8, frameon=False)
-    return ax
 
 
-def write_tolerance(res: ToleranceResult, folder, *, target=None) -> list:
-    """Write tolerance.png, band.csv, samples.csv and sensitivity.csv into ``folder`` (atomically)."""
-    import io
-    from pathlib import Path
-
-    import matplotlib
-
-    matplotlib.use("Agg")
-    import matplotlib.pyplot as plt
-
-    from springsynth.io.files import write_bytes_atomic, write_text_atomic
-
-    folder = Path(folder)
-    written = []
-    for name, df in (("band.csv", res.to_frame()), ("samples.csv", res.samples), ("sensitivity.csv", res.sensitivity)):
-        write_text_atomic(folder / name, df.to_csv(index=False, float_format="%.6g", lineterminator="\n"))
-        written.append(folder / name)
-    ax = plot_tolerance(res, target=target)
-    buf = io.BytesIO()
-    ax.figure.tight_layout()
-    ax.figure.savefig(buf, format="png")
-    plt.close(ax.figure)
-    write_bytes_atomic(folder / "tolerance.png", buf.getvalue())
-    written.append(folder / "tolerance.png")
-    return written

@@ -10,9 +10,9 @@ import importlib
 import pkgutil
 from functools import lru_cache
 
-from springsynth.elements._base import ElementKind, Param
+from springsynth.elements._base import TOLERANCE_CLASSES, ElementKind, Param, missing_declarations
 
-__all__ = ["ElementKind", "Param", "registry", "get_kind", "kind_names"]
+__all__ = ["ElementKind", "Param", "TOLERANCE_CLASSES", "missing_declarations", "registry", "get_kind", "kind_names"]
 
 
 @lru_cache(maxsize=1)
@@ -27,6 +27,10 @@ def registry() -> dict[str, ElementKind]:
         if isinstance(kind, ElementKind):
             if kind.name in found:
                 raise RuntimeError(f"element kind {kind.name!r} registered twice")
+            missing = missing_declarations(kind)
+            if missing:
+                raise RuntimeError(f"element kind {info.name} does not declare {', '.join(missing)} "
+                                   "(see DEVELOPERS.md, 'Add an element kind')")
             found[kind.name] = kind
     return found
 

@@ -26,9 +26,22 @@ import numpy as np
 
 from springsynth.model.materials import MaterialArrays
 
-__all__ = ["Param", "ElementKind", "Params", "second_moment_rect", "second_moment_round", "DENSITY_TO_G_PER_MM3"]
+__all__ = ["Param", "ElementKind", "Params", "TOLERANCE_CLASSES", "missing_declarations", "second_moment_rect", "second_moment_round", "DENSITY_TO_G_PER_MM3"]
 
 Params = Mapping[str, np.ndarray]
+
+#: manufacturing tolerance classes a parameter may declare (the tolerance analysis gives each its process)
+TOLERANCE_CLASSES = {
+    "linear": "a linear dimension, made by the material's process (machined metal, moulded polymer or rubber)",
+    "width": "a strip width: slit edge for metal strip, else as linear",
+    "strip": "a strip or plate thickness: rolled metal strip, moulded polymer or rubber",
+    "wire": "a drawn wire diameter",
+    "coiling": "a coil spring's mean diameter or free length, set by coiling",
+    "coils": "a coil spring's number of active coils (position of the coil ends)",
+    "tension": "a coil spring's initial tension",
+    "set_radius": "a prestressed strip's natural radius, set by forming",
+    "none": "not perturbed (a choice, or a quantity the process does not scatter)",
+}
 
 
 @dataclass(frozen=True)
@@ -54,6 +67,9 @@ class Param:
         A section thickness or wire diameter: subject to ``limits.min_thickness_mm``.
     doc : str
         One line for the catalogue.
+    tolerance : str
+        Its manufacturing tolerance class, a key of :data:`TOLERANCE_CLASSES` (the tolerance
+        analysis maps the class and the material to a process and its tolerance).
     """
 
     name: str
@@ -65,6 +81,7 @@ class Param:
     choices: tuple[str, ...] = ()
     thickness: bool = False
     doc: str = ""
+    tolerance: str = ""
 
     def __post_init__(self):
         if self.choices:
@@ -89,6 +106,12 @@ class ElementKind:
     stroke_note : str       what the stroke ``u`` is for this kind
     monotonic_stress : bool governing stress rises monotonically with u, so its peak over
                             a stroke is reached at ``u_max`` (lets the search evaluate it once)
+    glyph : str             its symbol in the schematics, a name the report draws (``GLYPHS`` in
+                            :mod:`springsynth.report.schematic`)
+    verification : str      its independent solver for ``springsynth verify``, a name of
+                            :data:`springsynth.checks.verify.SOLVERS` (``"none"``: reported as not verified)
+    verify_quick : bool     the solver takes well under a second, so the top designs of every run
+                            are verified automatically (False: left to ``springsynth verify``)
     """
 
     name: str = ""
@@ -100,6 +123,9 @@ class ElementKind:
     stroke_note: str = ""
     monotonic_stress: bool = True
     stress_note: str = ""
+    glyph: str = ""
+    verification: str = ""
+    verify_quick: bool = True
     extra: dict = field(default_factory=dict, compare=False, repr=False)
 
     # ---- kernels (override) ---------------------------------------------------------
@@ -207,3 +233,12 @@ def second_moment_round(d: np.ndarray) -> np.ndarray:
 
 #: kg/m^3 * mm^3 -> g
 DENSITY_TO_G_PER_MM3 = 1e-6
+
+
+def missing_declarations(kind: ElementKind) -> list[str]:
+    """What ``kind`` has not declared of what every kind must (empty when complete)."""
+    out = [a for a in ("name", "title", "glyph", "verification", "validity") if not getattr(kind, a)]
+    if not kind.sources:
+        out.append("sources")
+    out += [f"{q.name}.tolerance" for q in kind.params if q.tolerance not in TOLERANCE_CLASSES]
+    return out

@@ -416,12 +416,15 @@ class Arch(ElementKind):
 
 KIND = Arch(
     name="arch",
+    glyph="arch",
+    verification="clamped_span",
+    verify_quick=False,
     title="cosine pre-curved arch, clamped ends, centre load on a guided shuttle: softening, negative stiffness, snap-through",
     params=(
-        Param("length_mm", "mm", 5.0, 200.0, log=True, doc="span l between the clamps"),
-        Param("width_mm", "mm", 0.5, 50.0, log=True, doc="beam width b"),
-        Param("thickness_mm", "mm", 0.02, 5.0, log=True, thickness=True, doc="beam thickness t (bending direction)"),
-        Param("rise_mm", "mm", 0.05, 20.0, log=True, doc="as-made mid-span rise h"),
+        Param("length_mm", "mm", 5.0, 200.0, log=True, doc="span l between the clamps", tolerance="linear"),
+        Param("width_mm", "mm", 0.5, 50.0, log=True, doc="beam width b", tolerance="width"),
+        Param("thickness_mm", "mm", 0.02, 5.0, log=True, thickness=True, doc="beam thickness t (bending direction)", tolerance="strip"),
+        Param("rise_mm", "mm", 0.05, 20.0, log=True, doc="as-made mid-span rise h", tolerance="linear"),
     ),
     forms=("strip",),
     validity=(

@@ -61,11 +61,13 @@ class BladeCantilever(_elastica.ElasticaBlade):
 
 KIND = BladeCantilever(
     name="blade_cantilever",
+    glyph="cantilever",
+    verification="tip_beam",
     title="end-loaded cantilever blade, load direction fixed, large deflection; stiffening",
     params=(
-        Param("length_mm", "mm", 2.0, 200.0, log=True, doc="free length from the clamp to the loaded tip"),
-        Param("width_mm", "mm", 0.5, 50.0, log=True, doc="blade width, across the bending plane"),
-        Param("thickness_mm", "mm", 0.02, 5.0, log=True, thickness=True, doc="blade thickness, in the bending direction"),
+        Param("length_mm", "mm", 2.0, 200.0, log=True, doc="free length from the clamp to the loaded tip", tolerance="linear"),
+        Param("width_mm", "mm", 0.5, 50.0, log=True, doc="blade width, across the bending plane", tolerance="width"),
+        Param("thickness_mm", "mm", 0.02, 5.0, log=True, thickness=True, doc="blade thickness, in the bending direction", tolerance="strip"),
     ),
     forms=("strip",),
     validity=f"elastic; stroke u <= {STROKE_LIMIT:g} L; slenderness L/t >= {_elastica.SLENDERNESS_MIN:g}; "

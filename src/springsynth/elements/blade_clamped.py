@@ -495,11 +495,13 @@ class BladeClamped(ElementKind):
 
 KIND = BladeClamped(
     name="blade_clamped",
+    glyph="clamped_blade",
+    verification="clamped_span",
     title="blade clamped at both (axially fixed) ends, loaded at mid-span; bending plus stretching, strong hardening",
     params=(
-        Param("length_mm", "mm", 5.0, 200.0, log=True, doc="span L between the clamps"),
-        Param("width_mm", "mm", 0.5, 50.0, log=True, doc="blade width b"),
-        Param("thickness_mm", "mm", 0.02, 5.0, log=True, thickness=True, doc="blade thickness t (bending direction)"),
+        Param("length_mm", "mm", 5.0, 200.0, log=True, doc="span L between the clamps", tolerance="linear"),
+        Param("width_mm", "mm", 0.5, 50.0, log=True, doc="blade width b", tolerance="width"),
+        Param("thickness_mm", "mm", 0.02, 5.0, log=True, thickness=True, doc="blade thickness t (bending direction)", tolerance="strip"),
     ),
     forms=("strip",),
     validity=(

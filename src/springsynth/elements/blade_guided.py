@@ -65,11 +65,13 @@ class BladeGuided(_elastica.ElasticaBlade):
 
 KIND = BladeGuided(
     name="blade_guided",
+    glyph="guided_blade",
+    verification="tip_beam",
     title="leaf flexure, far end guided (parallelogram blade), large deflection; near-linear, mild stiffening",
     params=(
-        Param("length_mm", "mm", 2.0, 200.0, log=True, doc="free length of the blade between clamp and guided end"),
-        Param("width_mm", "mm", 0.5, 50.0, log=True, doc="blade width, across the bending plane"),
-        Param("thickness_mm", "mm", 0.02, 5.0, log=True, thickness=True, doc="blade thickness, in the bending direction"),
+        Param("length_mm", "mm", 2.0, 200.0, log=True, doc="free length of the blade between clamp and guided end", tolerance="linear"),
+        Param("width_mm", "mm", 0.5, 50.0, log=True, doc="blade width, across the bending plane", tolerance="width"),
+        Param("thickness_mm", "mm", 0.02, 5.0, log=True, thickness=True, doc="blade thickness, in the bending direction", tolerance="strip"),
     ),
     forms=("strip",),
     validity=f"elastic; stroke u <= {STROKE_LIMIT:g} L; slenderness L/t >= {_elastica.SLENDERNESS_MIN:g}; "

@@ -107,14 +107,16 @@ class Column(ElementKind):
 
 KIND = Column(
     name="column",
+    glyph="column",
+    verification="column",
     title="axially loaded column, straight or pre-curved: stiff start, then a near-flat buckling plateau",
     params=(
-        Param("length_mm", "mm", 5.0, 200.0, log=True, doc="span between the ends (chord)"),
-        Param("width_mm", "mm", 0.5, 50.0, log=True, doc="width, across the bending plane"),
-        Param("thickness_mm", "mm", 0.02, 5.0, log=True, thickness=True, doc="thickness, in the bending direction"),
-        Param("rise_mm", "mm", 0.0, 20.0, doc="mid-span amplitude of the initial shape (0 = straight)"),
+        Param("length_mm", "mm", 5.0, 200.0, log=True, doc="span between the ends (chord)", tolerance="linear"),
+        Param("width_mm", "mm", 0.5, 50.0, log=True, doc="width, across the bending plane", tolerance="width"),
+        Param("thickness_mm", "mm", 0.02, 5.0, log=True, thickness=True, doc="thickness, in the bending direction", tolerance="strip"),
+        Param("rise_mm", "mm", 0.0, 20.0, doc="mid-span amplitude of the initial shape (0 = straight)", tolerance="linear"),
         Param("ends", "-", 0.0, 1.0, choices=("pinned", "clamped"),
-              doc="end conditions; initial shape half-sine (pinned) or (1 - cos 2 pi x/L)/2 (clamped)"),
+              doc="end conditions; initial shape half-sine (pinned) or (1 - cos 2 pi x/L)/2 (clamped)", tolerance="none"),
     ),
     forms=("strip",),
     validity=(

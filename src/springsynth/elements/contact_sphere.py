@@ -60,8 +60,10 @@ class ContactSphere(ElementKind):
 
 KIND = ContactSphere(
     name="contact_sphere",
+    glyph="sphere",
+    verification="hertz",
     title="sphere pressed on a flat of the same material (Hertz contact), F ~ u^1.5",
-    params=(Param("radius_mm", "mm", 0.5, 50.0, log=True, doc="sphere radius"),),
+    params=(Param("radius_mm", "mm", 0.5, 50.0, log=True, doc="sphere radius", tolerance="linear"),),
     forms=("bulk",),
     validity="elastic, frictionless, contact radius a <= 0.1 R",
     sources=("K.L. Johnson, Contact Mechanics, Cambridge UP 1985, ch. 4 (Hertz) and sec. 6.2 (first yield p0 = 1.60 Y)",),

@@ -322,11 +322,14 @@ class ElastomerPad(ElementKind):
 
 KIND = ElastomerPad(
     name="elastomer_pad",
+    glyph="pad",
+    verification="pad_fe",
+    verify_quick=False,
     title="bonded elastomer block compressed through its thickness (hyperelastic law + compressible layer flow)",
     params=(
-        Param("length_mm", "mm", 2.0, 200.0, log=True, doc="block length L (loaded face)"),
-        Param("width_mm", "mm", 2.0, 200.0, log=True, doc="block width W (loaded face)"),
-        Param("thickness_mm", "mm", 0.5, 50.0, log=True, thickness=True, doc="block thickness t, along the stroke"),
+        Param("length_mm", "mm", 2.0, 200.0, log=True, doc="block length L (loaded face)", tolerance="linear"),
+        Param("width_mm", "mm", 2.0, 200.0, log=True, doc="block width W (loaded face)", tolerance="width"),
+        Param("thickness_mm", "mm", 0.5, 50.0, log=True, thickness=True, doc="block thickness t, along the stroke", tolerance="strip"),
     ),
     forms=("elastomer",),
     validity=(

@@ -212,12 +212,14 @@ _SEARCH = COIL_SEARCH + (Param("free_length_ratio", "-", 1.1, 12.0, log=True, do
 
 KIND = HelicalCompression(
     name="helical_compression",
+    glyph="compression_coil",
+    verification="coil_compression",
     title="helical compression spring, round wire, squared-and-ground ends; linear rate",
     params=(
-        Param("wire_diameter_mm", "mm", 0.1, 6.0, log=True, thickness=True, doc="wire diameter d"),
-        Param("mean_diameter_mm", "mm", 1.0, 60.0, log=True, doc="mean coil diameter D"),
-        Param("active_coils", "-", 2.0, 40.0, log=True, doc="active coils Na (total Na + 2)"),
-        Param("free_length_mm", "mm", 2.0, 300.0, log=True, doc="free length L0"),
+        Param("wire_diameter_mm", "mm", 0.1, 6.0, log=True, thickness=True, doc="wire diameter d", tolerance="wire"),
+        Param("mean_diameter_mm", "mm", 1.0, 60.0, log=True, doc="mean coil diameter D", tolerance="coiling"),
+        Param("active_coils", "-", 2.0, 40.0, log=True, doc="active coils Na (total Na + 2)", tolerance="coils"),
+        Param("free_length_mm", "mm", 2.0, 300.0, log=True, doc="free length L0", tolerance="coiling"),
     ),
     forms=("wire",),
     validity=("spring index 4 <= D/d <= 12; active coils >= 3; free length >= solid length d(Na+2) "

@@ -63,7 +63,14 @@ import numpy as np
 
 from springsynth.elements._base import DENSITY_TO_G_PER_MM3, ElementKind, Param
 from springsynth.elements.helical_compression import (
-    ACTIVE_COILS_MIN, COIL_SEARCH, INDEX_FACTOR_FLOOR, INDEX_MAX, INDEX_MIN, VON_MISES_SHEAR, bergstrasser_factor, spring_rate,
+    ACTIVE_COILS_MIN,
+    COIL_SEARCH,
+    INDEX_FACTOR_FLOOR,
+    INDEX_MAX,
+    INDEX_MIN,
+    VON_MISES_SHEAR,
+    bergstrasser_factor,
+    spring_rate,
     wire_strength,
 )
 
@@ -204,12 +211,14 @@ _SEARCH = COIL_SEARCH + (
 
 KIND = HelicalExtension(
     name="helical_extension",
+    glyph="extension_coil",
+    verification="coil_extension",
     title="helical extension spring, round wire, full-loop hooks; initial tension plus linear rate",
     params=(
-        Param("wire_diameter_mm", "mm", 0.1, 6.0, log=True, thickness=True, doc="wire diameter d"),
-        Param("mean_diameter_mm", "mm", 1.0, 60.0, log=True, doc="mean coil diameter D"),
-        Param("active_coils", "-", 2.0, 40.0, log=True, doc="active coils Na = body coils + G/E"),
-        Param("initial_tension_N", "N", 0.01, 200.0, log=True, doc="initial tension Fi"),
+        Param("wire_diameter_mm", "mm", 0.1, 6.0, log=True, thickness=True, doc="wire diameter d", tolerance="wire"),
+        Param("mean_diameter_mm", "mm", 1.0, 60.0, log=True, doc="mean coil diameter D", tolerance="coiling"),
+        Param("active_coils", "-", 2.0, 40.0, log=True, doc="active coils Na = body coils + G/E", tolerance="coils"),
+        Param("initial_tension_N", "N", 0.01, 200.0, log=True, doc="initial tension Fi", tolerance="tension"),
     ),
     forms=("wire",),
     validity=("spring index 4 <= D/d <= 12; active coils >= 3; initial-tension stress 8 Fi D/(pi d^3) "

@@ -125,11 +125,13 @@ class Ribbon(ElementKind):
 
 KIND = Ribbon(
     name="ribbon",
+    glyph="ribbon",
+    verification="ribbon_plateau",
     title="prestressed rolled ribbon on a drum (constant-force spring), plateau after a short ramp",
     params=(
-        Param("width_mm", "mm", 2.0, 50.0, log=True, doc="strip width b"),
-        Param("thickness_mm", "mm", 0.02, 1.0, log=True, thickness=True, doc="strip thickness t"),
-        Param("natural_radius_mm", "mm", 2.0, 100.0, log=True, doc="natural (free) inside radius R_n of the coil"),
+        Param("width_mm", "mm", 2.0, 50.0, log=True, doc="strip width b", tolerance="width"),
+        Param("thickness_mm", "mm", 0.02, 1.0, log=True, thickness=True, doc="strip thickness t", tolerance="strip"),
+        Param("natural_radius_mm", "mm", 2.0, 100.0, log=True, doc="natural (free) inside radius R_n of the coil", tolerance="set_radius"),
     ),
     forms=("strip",),
     validity=(

@@ -8,11 +8,11 @@ from pathlib import Path
 from typing import Any, Mapping
 
 from springsynth.assembly.design import MAX_COUNT, Design, Element
-from springsynth.model.errors import InputError
-from springsynth.model.numbers import is_finite_number
-from springsynth.model.materials import Material, catalogue, material_from_mapping
-from springsynth.model.suggest import unknown_key_message
 from springsynth.elements import get_kind, registry
+from springsynth.model.errors import InputError
+from springsynth.model.materials import Material, catalogue, material_from_mapping
+from springsynth.model.numbers import is_finite_number
+from springsynth.model.suggest import unknown_key_message
 
 __all__ = ["load_design", "design_from_mapping", "design_to_toml", "resolve_materials", "read_toml"]
 
@@ -138,7 +138,7 @@ def load_design(path: str | Path) -> Design:
 
 # --------------------------------------------------------------------------- writing
 
-def _fmt(v: Any) -> str:
+def toml_value(v: Any) -> str:
     if isinstance(v, str):
         return '"' + v.replace("\\", "\\\\").replace('"', '\\"') + '"'
     if isinstance(v, bool):
@@ -148,7 +148,7 @@ def _fmt(v: Any) -> str:
     if isinstance(v, float):
         return repr(float(v))
     if isinstance(v, (list, tuple)):
-        return "[" + ", ".join(_fmt(x) for x in v) + "]"
+        return "[" + ", ".join(toml_value(x) for x in v) + "]"
     raise TypeError(type(v))
 
 
@@ -172,14 +172,14 @@ def material_to_table(m: Material) -> dict[str, Any]:
 def design_to_toml(design: Design, *, header: str = "") -> str:
     """Design file text; non-catalogue materials are written inline so the file stands alone."""
     lines = [f"# {h}" for h in header.splitlines()] if header else []
-    lines.append(f"name = {_fmt(design.name)}")
+    lines.append(f"name = {toml_value(design.name)}")
     cat = catalogue()
     for mid, m in design.materials.items():
         if cat.get(mid) == m:
             continue
-        lines += ["", f"[materials.{mid}]"] + [f"{k} = {_fmt(v)}" for k, v in material_to_table(m).items()]
+        lines += ["", f"[materials.{mid}]"] + [f"{k} = {toml_value(v)}" for k, v in material_to_table(m).items()]
     for e in design.elements:
-        lines += ["", "[[element]]", f"kind = {_fmt(e.kind)}", f"material = {_fmt(e.material)}",
-                  f"count = {e.count}", f"offset_mm = {_fmt(float(e.offset_mm))}"]
-        lines += [f"{k} = {_fmt(v)}" for k, v in e.params.items()]
+        lines += ["", "[[element]]", f"kind = {toml_value(e.kind)}", f"material = {toml_value(e.material)}",
+                  f"count = {e.count}", f"offset_mm = {toml_value(float(e.offset_mm))}"]
+        lines += [f"{k} = {toml_value(v)}" for k, v in e.params.items()]
     return "\n".join(lines) + "\n"

@@ -64,3 +64,10 @@ def new_folder(path: Path) -> Path:
             cand = path.with_name(f"{path.name}-{i}")
         except OSError as e:
             raise _os_error(e, cand) from None
+
+
+def save_figure(fig, path: Path, *, dpi: int = 130, tight: bool = True) -> None:
+    """Save a matplotlib figure as PNG atomically and close it."""
+    from springsynth.report.plots import png_bytes
+
+    write_bytes_atomic(Path(path), png_bytes(fig, dpi=dpi, tight=tight))

@@ -2,30 +2,28 @@
 
 from __future__ import annotations
 
-from typing import TYPE_CHECKING
-
 import io
 import json
 import math
 import platform
 from dataclasses import dataclass
 from pathlib import Path
+from typing import TYPE_CHECKING
 
 import numpy as np
 import pandas as pd
 
-from springsynth.model.version import __version__
 from springsynth.assembly.design import Design
 from springsynth.assembly.evaluate import evaluate_population
 from springsynth.assembly.slots import Slots
 from springsynth.io.design_toml import design_to_toml, load_design, read_toml
+from springsynth.io.files import new_folder, write_bytes_atomic, write_text_atomic
+from springsynth.io.study_toml import load_study
 from springsynth.model.errors import InputError
 from springsynth.model.safety import CAUTION
-from springsynth.io.files import new_folder, write_bytes_atomic, write_text_atomic
-from springsynth.model.study import Study
+from springsynth.model.study import Study, curve_grid
+from springsynth.model.version import __version__
 from springsynth.report.html import REPORT, ReportInput, render_report
-from springsynth.io.study_toml import load_study
-from springsynth.model.study import curve_grid
 
 if TYPE_CHECKING:  # the run folder only reads a result's fields; the search is not loaded to write one
     from springsynth.search.synthesis import Synthesis

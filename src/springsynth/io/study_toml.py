@@ -9,14 +9,14 @@ from pathlib import Path
 from typing import Any, Mapping
 
 from springsynth.assembly.design import MAX_COUNT
-from springsynth.io.design_toml import read_toml, resolve_materials
-from springsynth.model.numbers import is_finite_number
-from springsynth.model.errors import InputError
-from springsynth.model.study import DEFAULTS, Envelope, Limits, SearchOptions, Study
-from springsynth.model.materials import Material
-from springsynth.model.suggest import unknown_key_message
-from springsynth.io.target_csv import load_target
 from springsynth.elements import ElementKind, get_kind, registry
+from springsynth.io.design_toml import read_toml, resolve_materials
+from springsynth.io.target_csv import load_target
+from springsynth.model.errors import InputError
+from springsynth.model.materials import Material
+from springsynth.model.numbers import is_finite_number
+from springsynth.model.study import DEFAULTS, Envelope, Limits, SearchOptions, Study
+from springsynth.model.suggest import unknown_key_message
 
 __all__ = ["load_study", "study_from_mapping", "apply_overrides"]
 

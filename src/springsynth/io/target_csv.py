@@ -10,8 +10,8 @@ from __future__ import annotations
 
 import csv
 import math
-from array import array
 import re
+from array import array
 from functools import lru_cache
 from pathlib import Path
 

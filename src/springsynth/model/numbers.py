@@ -4,7 +4,7 @@ from __future__ import annotations
 
 import math
 
-__all__ = ["is_finite_number"]
+__all__ = ["is_finite_number", "thousands", "size_text", "pct_text", "table_number"]
 
 
 def is_finite_number(v: int | float) -> bool:
@@ -13,3 +13,32 @@ def is_finite_number(v: int | float) -> bool:
         return math.isfinite(float(v))
     except OverflowError:
         return False
+
+
+def thousands(v: float) -> str:
+    """``203 000`` (thin-space thousands, no decimals)."""
+    return f"{v:,.0f}".replace(",", "\u2009")
+
+
+def size_text(v: float) -> str:
+    """A size or other positive quantity: thin-space thousands from 1000 up, three significant digits below."""
+    if not math.isfinite(v):
+        return "n/a"
+    return thousands(v) if abs(v) >= 1000 else f"{v:.3g}"
+
+
+def pct_text(v: float, *, decimals: int = 2, below: str = "< 0.01") -> str:
+    """A percentage with a fixed number of decimals, ``< 0.01 %`` for what rounds to nothing,
+    ``n/a`` when not finite (never ``3.03e-14 %``)."""
+    if not math.isfinite(v):
+        return "n/a"
+    if abs(v) < 0.5 * 10.0**-decimals:
+        return f"{below} %"
+    return f"{v:.{decimals}f} %"
+
+
+def table_number(v: float) -> str:
+    """Plain figures for a table column: ``203000``, ``75800``, ``1.24``; blank for NaN."""
+    if math.isnan(v):
+        return ""
+    return f"{v:.0f}" if abs(v) >= 100 else f"{v:.3g}"

@@ -30,9 +30,10 @@ import pandas as pd
 
 from springsynth.assembly.design import Design
 from springsynth.assembly.evaluate import Response, evaluate_design
+from springsynth.elements import get_kind
+from springsynth.model.numbers import pct_text, size_text, thousands
 from springsynth.model.safety import CAUTION
 from springsynth.model.study import Study
-from springsynth.elements import get_kind
 
 __all__ = ["render_report", "RenderedReport", "ReportInput", "REPORT", "BASE_COLUMNS", "extra_columns"]
 
@@ -86,8 +87,8 @@ def extra_columns(table: pd.DataFrame) -> list[str]:
 
 def _figures(run: ReportInput) -> tuple[dict[str, bytes], dict[str, bytes], dict[str, Response], dict[str, list[str]]]:
     """All figures as PNG bytes (run-level, per design), the responses and each design's roles."""
-    from springsynth.report import plots as P
     from springsynth.model.study import curve_grid
+    from springsynth.report import plots as P
 
     st = run.study
     ids = [d.name for d in run.designs]
@@ -124,8 +125,8 @@ def _figures(run: ReportInput) -> tuple[dict[str, bytes], dict[str, bytes], dict
             elem_sr = np.stack([evaluate_design(Design((e,), d.materials, name=d.name), x,
                                                 x_max_mm=stroke).stress_ratio_curve[0] for e in d.elements])
         state = "feasible" if feas[i] else "INFEASIBLE"
-        title = (f"{d.name} ({state}): curve error {P._fmt_pct(F[i, 0])}, stress ratio {F[i, 1]:.3g}, "
-                 f"size {P._fmt_size(F[i, 2])} mm³")
+        title = (f"{d.name} ({state}): curve error {pct_text(F[i, 0])}, stress ratio {F[i, 1]:.3g}, "
+                 f"size {size_text(F[i, 2])} mm³")
         per_design[d.name] = P.png_bytes(P.plot_design(d, r, target=st.target, stress_limit=limit, title=title,
                                                        element_stress=elem_sr), dpi=100, tight=False)
     return figs, per_design, responses, roles
@@ -218,7 +219,7 @@ def _num(v, fmt: str = ".4g") -> str:
 
 def _big(v: float) -> str:
     """``203 000`` rather than ``2.03e+05`` (thin-space thousands)."""
-    return f"{v:,.0f}".replace(",", "\u2009") if math.isfinite(v) and abs(v) >= 1000 else _num(v)
+    return thousands(v) if math.isfinite(v) and abs(v) >= 1000 else _num(v)
 
 
 def _pct(v) -> str:

@@ -1,18 +1,12 @@
 """Figures (matplotlib, Agg). Plot functions take data and return a figure (or, with
 ``ax=``, draw into the given axes and return them); nothing here shows a window or
-touches the global pyplot state beyond creating figures inside a local style.
-
-One palette serves every figure: :data:`PALETTE` for series (element slots,
-representative designs), and a few named roles (``FEASIBLE``, ``INFEASIBLE``,
-``HIGHLIGHT``, ``LIMIT``) used the same way in all of them.
+touches the global pyplot state beyond creating figures inside a local style
+(:mod:`springsynth.report.style`).
 """
 
 from __future__ import annotations
 
-import functools
-import io
 import math
-from pathlib import Path
 from typing import Mapping, Sequence
 
 import matplotlib
@@ -20,86 +14,35 @@ import matplotlib
 matplotlib.use("Agg")
 import matplotlib.pyplot as plt  # noqa: E402
 import numpy as np  # noqa: E402
-from matplotlib.patches import FancyBboxPatch, Rectangle  # noqa: E402
 
 from springsynth.assembly.design import Design
 from springsynth.assembly.evaluate import Response
-from springsynth.io.files import write_bytes_atomic  # noqa: E402
+from springsynth.checks.tolerance import ToleranceResult
+from springsynth.model.numbers import pct_text, thousands  # noqa: E402
 from springsynth.model.target import Target
+from springsynth.report.schematic import TINY_OFFSET_MM as _TINY_OFFSET_MM
+from springsynth.report.schematic import plot_schematic
+from springsynth.report.style import (
+    BAND,
+    BAND_EDGE,
+    DASHES,
+    FEASIBLE,
+    HIGHLIGHT,
+    INFEASIBLE,
+    INK,
+    LIMIT,
+    MUTED,
+    PALETTE,
+    STYLE,
+    png_bytes,
+    styled,
+)
 
 __all__ = ["PALETTE", "STYLE", "plot_design", "plot_pareto", "plot_curves", "plot_convergence", "plot_schematic",
-           "knee_index", "representatives", "save", "png_bytes"]
-
-#: Colour-blind-safe series palette of our own: hues kept apart for the common colour-vision
-#: deficiencies *and* stepped in lightness, so neighbours also differ in greyscale.
-PALETTE = ["#1f4e79",  # deep blue
-           "#e69a2e",  # amber
-           "#4aa3c9",  # sky
-           "#a8432f",  # brick
-           "#2f8f6f",  # sea green
-           "#8c6bb1",  # violet
-           "#c7b43a",  # mustard
-           "#7f7f7f"]  # grey
-#: line styles paired with the palette, so curves stay apart in greyscale too
-DASHES = ["-", "--", "-.", ":", (0, (5, 1.5, 1, 1.5)), (0, (1, 1)), (0, (8, 2)), (0, (3, 1, 1, 1, 1, 1))]
-INK = "#222222"
-MUTED = "#6b6b6b"
-GRID = "#dcdcdc"
-BAND = "#cfdbe8"
-BAND_EDGE = "#7f9bb8"
-FEASIBLE = PALETTE[0]
-INFEASIBLE = "#9a9a9a"
-HIGHLIGHT = PALETTE[1]
-LIMIT = PALETTE[3]
-
-STYLE = {
-    "axes.edgecolor": "#555555", "axes.grid": True, "grid.color": GRID, "grid.linewidth": 0.6,
-    "axes.spines.top": False, "axes.spines.right": False, "axes.axisbelow": True, "font.size": 9,
-    "axes.titlesize": 10, "axes.titleweight": "bold", "axes.labelcolor": INK, "xtick.color": "#444444",
-    "ytick.color": "#444444", "legend.frameon": False, "figure.dpi": 110,
-    "axes.prop_cycle": matplotlib.cycler(color=PALETTE),
-}
-
-_TINY_OFFSET_MM = 1e-6
+           "knee_index", "representatives", "png_bytes", "plot_tolerance"]
 
 
-def _styled(fn):
-    """Run a plot function inside the package style, leaving global rcParams alone."""
 
-    @functools.wraps(fn)
-    def wrapper(*a, **k):
-        with plt.rc_context(STYLE):
-            return fn(*a, **k)
-
-    return wrapper
-
-
-def png_bytes(fig, *, dpi: int = 130, tight: bool = True) -> bytes:
-    """The figure as PNG bytes; closes it. ``tight=False`` keeps the figure's own layout
-    (half the drawing time: for figures laid out with fixed margins)."""
-    buf = io.BytesIO()
-    with plt.rc_context(STYLE):
-        fig.savefig(buf, format="png", dpi=dpi, bbox_inches="tight" if tight else None, facecolor="white")
-    plt.close(fig)
-    return buf.getvalue()
-
-
-def save(fig, path: Path, *, dpi: int = 130, tight: bool = True) -> None:
-    """Save a figure as PNG atomically and close it."""
-    write_bytes_atomic(Path(path), png_bytes(fig, dpi=dpi, tight=tight))
-
-
-def _fmt_size(v: float) -> str:
-    """``20 860`` (thin-space thousands) for big numbers, three significant digits below 1000."""
-    if not math.isfinite(v):
-        return "n/a"
-    return f"{v:,.0f}".replace(",", "\u2009") if abs(v) >= 1000 else f"{v:.3g}"
-
-
-def _fmt_pct(v: float) -> str:
-    if not math.isfinite(v):
-        return "n/a"
-    return "< 0.01 %" if abs(v) < 0.005 else f"{v:.2f} %"
 
 
 def _offset_words(offset_mm: float) -> str:
@@ -111,7 +54,7 @@ def _offset_words(offset_mm: float) -> str:
 
 
 def _thousands_fmt(v, _pos=None) -> str:
-    return f"{v:,.0f}".replace(",", "\u2009") if abs(v) >= 1 else f"{v:g}"
+    return thousands(v) if abs(v) >= 1 else f"{v:g}"
 
 
 _thousands = matplotlib.ticker.FuncFormatter(_thousands_fmt)
@@ -264,7 +207,7 @@ def _place_labels(ax, items, obstacles_xy: np.ndarray, *, hlines: Sequence[float
 _OBJ = [("curve_error_pct", "curve error [%]"), ("stress_ratio", "peak stress ratio [-]"), ("size_mm3", "size [mm³]")]
 
 
-@_styled
+@styled
 def plot_pareto(ids: Sequence[str], F: np.ndarray, feasible: np.ndarray, *, stress_limit: float | None = None):
     """Pairwise trade-off panels of curve error, stress ratio and size.
 
@@ -361,7 +304,7 @@ def _force_limits(target: Target, curves: Sequence[np.ndarray]) -> tuple[float, 
     return lo - pad, hi + pad, clipped
 
 
-@_styled
+@styled
 def plot_curves(target: Target, x: np.ndarray, curves: Mapping[str, np.ndarray], errors: Mapping[str, float], *,
                 ax=None):
     """Target (with its band) against a few representative designs.
@@ -384,7 +327,7 @@ def plot_curves(target: Target, x: np.ndarray, curves: Mapping[str, np.ndarray],
     plot_target(target, ax)
     for j, (label, f) in enumerate(curves.items()):
         ax.plot(x, f, lw=1.9, color=PALETTE[j % len(PALETTE)], ls=DASHES[j % len(DASHES)], zorder=4,
-                label=f"{label}: error {_fmt_pct(errors[label])}")
+                label=f"{label}: error {pct_text(errors[label])}")
     ax.axhline(0, color="#888888", lw=0.8, zorder=2)
     lo, hi, clipped = _force_limits(target, list(curves.values()))
     ax.set_ylim(lo, hi)
@@ -403,7 +346,7 @@ def plot_curves(target: Target, x: np.ndarray, curves: Mapping[str, np.ndarray],
 # ------------------------------------------------------------------------- convergence
 
 
-@_styled
+@styled
 def plot_convergence(history: Sequence[Mapping], *, polish: Mapping | None = None, max_error_pct: float | None = None):
     """Best feasible curve error, feasible share and hypervolume per generation.
 
@@ -447,7 +390,7 @@ def plot_convergence(history: Sequence[Mapping], *, polish: Mapping | None = Non
     if after is not None and len(gen):
         below = after < floor
         ax.plot([gen[-1]], [max(after, floor)], marker="v" if below else "D", ms=7, color=HIGHLIGHT, ls="none",
-                zorder=5, clip_on=False, label=f"after local polish: {_fmt_pct(after)}")
+                zorder=5, clip_on=False, label=f"after local polish: {pct_text(after)}")
     if ax.get_yscale() == "log":
         lo, hi = ax.get_ylim()
         ax.set_ylim(max(lo, floor / 2), hi)
@@ -475,163 +418,14 @@ def plot_convergence(history: Sequence[Mapping], *, polish: Mapping | None = Non
 
 # ------------------------------------------------------------------------- schematic
 
-def _zigzag(ax, x0, x1, y, h, color, n=7, lw=1.6):
-    """A coil as a zig-zag of ``n`` turns between x0 and x1 with short straight leads."""
-    lead = 0.06 * (x1 - x0)
-    xs = np.r_[x0, np.linspace(x0 + lead, x1 - lead, 2 * n + 1), x1]
-    ys = np.full_like(xs, y)
-    ys[2:-2:2] += h / 2
-    ys[3:-2:2] -= h / 2
-    ax.plot(xs, ys, color=color, lw=lw, solid_joinstyle="round")
 
 
-def _glyph(ax, kind: str, params: Mapping, x0: float, x1: float, y: float, h: float, color: str, *,
-           aspect: float = 1.0):
-    """Our own symbol for an element kind between x0 and x1, centred on y, height h.
-
-    ``aspect``: x data units per y data unit of equal length on paper (keeps circles round).
-    """
-    from matplotlib.patches import Ellipse
-
-    w = x1 - x0
-    if kind == "helical_compression":
-        _zigzag(ax, x0, x1, y, h, color)
-    elif kind == "helical_extension":
-        r = 0.22 * h  # hook loops at both ends
-        rx = r * aspect
-        _zigzag(ax, x0 + 2 * rx, x1 - 2 * rx, y, h * 0.8, color, n=8, lw=1.4)
-        for cx in (x0 + rx, x1 - rx):
-            ax.add_patch(Ellipse((cx, y), 2 * rx, 2 * r, fill=False, ec=color, lw=1.4))
-    elif kind in ("blade_guided", "wire_guided"):
-        s = np.linspace(0, 1, 60)
-        yy = y + 0.35 * h * (0.5 - 0.5 * np.cos(np.pi * s)) - 0.175 * h
-        ax.plot(x0 + w * s, yy, color=color, lw=3.2 if kind == "blade_guided" else 1.6, solid_capstyle="butt")
-        if kind == "wire_guided":
-            ax.plot([x0, x1], [yy[0], yy[-1]], "o", color=color, ms=3)
-    elif kind == "blade_cantilever":
-        s = np.linspace(0, 1, 60)
-        yy = y + 0.35 * h * s**2 - 0.15 * h
-        ax.plot(x0 + w * s, yy, color=color, lw=3.2, solid_capstyle="butt")
-        ax.annotate("", (x1, yy[-1] - 0.05 * h), (x1, yy[-1] + 0.4 * h),
-                    arrowprops=dict(arrowstyle="-|>", color=color, lw=1.0))
-    elif kind in ("column", "blade_clamped"):
-        s = np.linspace(0, 1, 60)
-        rise = 0.3 * h if kind == "column" else 0.0
-        ax.plot(x0 + w * s, y + rise * np.sin(np.pi * s), color=color, lw=3.0, solid_capstyle="butt")
-        if params.get("ends") == "pinned":
-            for cx in (x0, x1):
-                ax.add_patch(Ellipse((cx, y), 0.12 * h * aspect, 0.12 * h, fc="white", ec=color, lw=1.2, zorder=5))
-        if kind == "blade_clamped":
-            ax.annotate("", (x0 + w / 2, y), (x0 + w / 2, y + 0.45 * h),
-                        arrowprops=dict(arrowstyle="-|>", color=color, lw=1.0))
-    elif kind == "arch":
-        s = np.linspace(0, 1, 60)
-        ax.plot(x0 + w * s, y - 0.2 * h + 0.45 * h * 0.5 * (1 - np.cos(2 * np.pi * s)), color=color, lw=3.0)
-    elif kind == "ribbon":
-        r = 0.45 * h
-        cx = x0 + r * aspect + 0.02 * w
-        t = np.linspace(0, 5 * np.pi, 200)
-        rr = r * (0.35 + 0.65 * t / t[-1])
-        ax.plot(cx + aspect * rr * np.cos(t), y + rr * np.sin(t), color=color, lw=1.3)
-        ax.plot([cx, x1], [y + r, y + r], color=color, lw=2.6, solid_capstyle="butt")
-        ax.plot([cx, cx], [y, y], "o", color=color, ms=2.5)
-    elif kind == "contact_sphere":
-        r = 0.5 * h
-        rx = r * aspect
-        ax.plot([x0, x1 - 2 * rx], [y, y], color=color, lw=1.6)
-        ax.add_patch(Ellipse((x1 - rx, y), 2 * rx, 2 * r, fc=color, ec=color, alpha=0.55, lw=1.2))
-    elif kind == "elastomer_pad":
-        ax.plot([x0, x0 + 0.45 * w], [y, y], color=color, lw=1.6)
-        ax.add_patch(FancyBboxPatch((x0 + 0.45 * w, y - 0.4 * h), 0.55 * w, 0.8 * h,
-                                    boxstyle="round,pad=0,rounding_size=0.06", fc=color, ec=color, alpha=0.45,
-                                    hatch="..", lw=1.2))
-    else:  # a kind this figure does not know yet: a labelled box
-        ax.plot([x0, x0 + 0.2 * w], [y, y], color=color, lw=1.6)
-        ax.add_patch(Rectangle((x0 + 0.2 * w, y - 0.3 * h), 0.8 * w, 0.6 * h, fc="white", ec=color, lw=1.4))
-        ax.text(x0 + 0.6 * w, y, "?", ha="center", va="center", color=color, fontsize=9)
-
-
-def _short_params(kind: str, params: Mapping) -> str:
-    from springsynth.elements import get_kind
-
-    try:
-        k = get_kind(kind)
-    except KeyError:
-        return ""
-    parts = []
-    for q in k.params:
-        v = params.get(q.name)
-        if v is None:
-            continue
-        name = q.name.removesuffix("_mm").removesuffix("_N").replace("_", " ")
-        name = {"wire diameter": "d", "mean diameter": "D", "active coils": "n", "free length": "L0", "length": "L",
-                "width": "b", "thickness": "t", "natural radius": "Rn", "radius": "R", "rise": "h",
-                "initial tension": "Fi"}.get(name, name)
-        parts.append(f"{name} {v}" if isinstance(v, str) else f"{name} {float(v):.3g}")
-    return ", ".join(parts)
-
-
-@_styled
-def plot_schematic(design: Design, *, ax=None):
-    """A small sketch of the arrangement: ground on the left, the shuttle on the right,
-    every element between them in parallel, drawn as our own glyph for its kind; gaps,
-    preloads and counts marked.
-
-    Returns the axes when ``ax`` is given, else a new figure.
-    """
-    own = ax is None
-    if own:
-        fig, ax = plt.subplots(figsize=(4.0, 1.0 + 0.9 * len(design.elements)))
-    n = len(design.elements)
-    row = 1.0
-    top = n * row
-    gx, sx = 0.0, 1.0  # ground and shuttle faces
-    ax.set_xlim(-0.12, 1.32)
-    ax.set_ylim(-0.3, top + 0.75)
-    ax.axis("off")
-    # data units per inch in x over those in y: circles drawn with it stay round
-    pos = ax.get_position()
-    fw, fh = ax.figure.get_size_inches()
-    aspect = (1.44 / (pos.width * fw)) / ((top + 1.05) / (pos.height * fh))
-    ax.add_patch(Rectangle((gx - 0.06, -0.15), 0.06, top + 0.3, fc="#e6e6e6", ec="#777777", hatch="////", lw=0.8))
-    ax.add_patch(Rectangle((sx, -0.15), 0.05, top + 0.3, fc="#b9b9b9", ec="#555555", lw=0.8))
-    ax.annotate("", (sx - 0.02, top + 0.42), (sx + 0.22, top + 0.42),
-                arrowprops=dict(arrowstyle="-|>", color=INK, lw=1.2))
-    ax.text(sx + 0.1, top + 0.5, "stroke x", ha="center", va="bottom", fontsize=7.5, color=INK)
-    ax.text(gx - 0.03, top + 0.2, "fixed", ha="center", va="bottom", fontsize=7, color=MUTED)
-    ax.text(sx + 0.025, -0.2, "shuttle", ha="center", va="top", fontsize=7, color=MUTED)
-    for j, e in enumerate(design.elements):
-        color = PALETTE[j % len(PALETTE)]
-        y = top - (j + 0.5) * row
-        off = e.offset_mm
-        x1 = sx
-        if off > _TINY_OFFSET_MM:  # gap: the element stops short of the shuttle
-            x1 = sx - 0.16
-            ax.annotate("", (x1, y), (sx, y), arrowprops=dict(arrowstyle="<->", color=INK, lw=0.8, shrinkA=0,
-                                                              shrinkB=0))
-            ax.text((x1 + sx) / 2, y + 0.07, f"gap\n{off:.2g} mm", ha="center", va="bottom", fontsize=6.2,
-                    color=INK, linespacing=1.0)
-        _glyph(ax, e.kind, e.params, gx + 0.04, x1 - 0.02, y, 0.42 * row, color, aspect=aspect)
-        if off < -_TINY_OFFSET_MM:  # preload: a pair of arrows squeezing the element
-            for xa, xb in ((0.3, 0.18), (0.7, 0.82)):
-                ax.annotate("", (xa, y + 0.3), (xb, y + 0.3), arrowprops=dict(arrowstyle="-|>", color=INK, lw=0.8))
-            ax.text(0.5, y + 0.3, f"preload {-off:.2g} mm", ha="center", va="center", fontsize=6.2, color=INK)
-        ax.text(gx + 0.04, y + 0.33, f"e{j + 1}", ha="left", va="center", fontsize=7.5, color=color,
-                fontweight="bold")
-        ax.text(sx + 0.09, y, f"×{e.count}", ha="left", va="center", fontsize=9, color=INK, fontweight="bold")
-        ax.text(0.5, y - 0.3, f"{e.kind} · {e.material}", ha="center", va="top", fontsize=6.2, color=INK)
-        if j < n - 1:
-            ax.plot([gx + 0.02, sx - 0.02], [y - 0.5 * row, y - 0.5 * row], color="#eeeeee", lw=0.6, zorder=0)
-    ax.set_title("arrangement (elements in parallel)", fontsize=9)
-    if own:
-        return ax.figure
-    return ax
 
 
 # ------------------------------------------------------------------------- one design
 
 
-@_styled
+@styled
 def plot_design(design: Design, resp: Response, *, target: Target | None = None, stress_limit: float | None = None,
                 title: str | None = None, element_stress: np.ndarray | None = None, schematic: bool = True):
     """Force with each element's contribution stacked, the stress ratio along the stroke
@@ -725,3 +519,28 @@ def plot_design(design: Design, resp: Response, *, target: Target | None = None,
     ax.set_xlim(0, float(np.max(x)) * 1.01 if x.size else 1)
     fig.align_ylabels([ax, ax2])
     return fig
+
+
+def plot_tolerance(res: ToleranceResult, *, target=None, ax=None):
+    """Force band of the samples against the target band; returns the axes."""
+    if ax is None:
+        _, ax = plt.subplots(figsize=(7.5, 4.8), dpi=120)
+    x = res.x_mm
+    ax.fill_between(x, res.p05_N, res.p95_N, color="tab:blue", alpha=0.30, lw=0,
+                    label="parts: 5th-95th percentile")
+    ax.plot(x, res.p50_N, color="tab:blue", lw=1.2, ls="--", label="parts: median")
+    ax.plot(x, res.nominal_N, color="tab:blue", lw=2.0, label="nominal design")
+    if target is not None:
+        if target.has_band:
+            ax.plot(target.x_mm, target.force_lo_N, color="black", lw=1.0, ls=":", label="target band")
+            ax.plot(target.x_mm, target.force_hi_N, color="black", lw=1.0, ls=":")
+        ax.plot(target.x_mm, target.force_N, "o", color="black", ms=3.5, label="target")
+    title = f"{res.design}: {res.force_N.shape[0]} Monte Carlo parts"
+    if math.isfinite(res.share_in_band):
+        title += f", {100 * res.share_in_band:.1f} % inside the band"
+    ax.set_title(title, fontsize=10)
+    ax.set_xlabel("displacement [mm]")
+    ax.set_ylabel("force [N]")
+    ax.grid(True, alpha=0.3)
+    ax.legend(loc="best", fontsize=8, frameon=False)
+    return ax

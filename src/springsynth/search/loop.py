@@ -21,8 +21,15 @@ from springsynth.search import checkpoint
 from springsynth.search.encoding import Encoding
 from springsynth.search.front import best_per_topology, pareto_front, rows_of, take
 from springsynth.search.metrics import hypervolume
-from springsynth.search.operators import (_Crossover, _HashDuplicates, _Mutation, _Problem, _Repair, _Sampling,
-                                          _TopologySurvival)
+from springsynth.search.operators import (
+    _Crossover,
+    _HashDuplicates,
+    _Mutation,
+    _Problem,
+    _Repair,
+    _Sampling,
+    _TopologySurvival,
+)
 from springsynth.search.polish import polish_designs
 from springsynth.search.scoring import Scores, score
 from springsynth.search.settings import SETTINGS

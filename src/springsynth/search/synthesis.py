@@ -11,11 +11,12 @@ import numpy as np
 import pandas as pd
 
 from springsynth.assembly.design import Design
+from springsynth.elements import get_kind
 from springsynth.model.errors import InputError
-from springsynth.search.scoring import CONSTRAINTS
+from springsynth.model.study import Study
 from springsynth.search.encoding import Encoding
 from springsynth.search.loop import Progress, run_search
-from springsynth.model.study import Study
+from springsynth.search.scoring import CONSTRAINTS
 
 __all__ = ["synthesize", "Synthesis", "design_table"]
 
@@ -185,8 +186,6 @@ def _in_spec_top(study: Study, designs, ids) -> dict[str, float]:
                                         seed=0).share_in_band) for i in ids}
 
 
-#: kinds whose independent solver takes tens of seconds per element: left to `springsynth verify`
-SLOW_TO_VERIFY = frozenset({"arch", "elastomer_pad"})
 
 
 def _verify_top(study: Study, designs, sc, top: int) -> dict[str, float]:
@@ -198,7 +197,7 @@ def _verify_top(study: Study, designs, sc, top: int) -> dict[str, float]:
     out = {}
     for i in order:
         d = designs[i]
-        if any(e.kind in SLOW_TO_VERIFY for e in d.elements):
+        if not all(get_kind(e.kind).verify_quick for e in d.elements):  # left to `springsynth verify`
             out[d.name] = math.nan
             continue
         try:
