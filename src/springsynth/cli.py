@@ -524,6 +524,70 @@ def tolerance(
     _caution()
 
 
+# ------------------------------------------------------------------------- export
+
+@app.command()
+@_guard
+def export(
+    path: Path = typer.Argument(..., help="a design TOML, or a run folder (exports its Pareto designs)"),
+    out_dir: Optional[Path] = typer.Option(None, "--out", help="folder to create (design: default <name>-export, "
+                                           "never overwritten; run: default RUN/export, replaced)"),
+    to: Optional[float] = typer.Option(None, "--to", help="design: working position of the stroke, mm"),
+    at: Optional[Path] = typer.Option(None, "--at", help="design: working position = last point of this target CSV"),
+    installed: float = typer.Option(0.0, "--from", help="design: installed position of the stroke, mm"),
+    top: Optional[int] = typer.Option(None, "--top", min=1, help="run: only the N lowest-error designs"),
+):
+    """What a maker needs: spec.csv and spec.json per design, a DXF outline and preview of each flat part."""
+    from .export import Stroke, design_spec, export_files, run_specs, write_folder
+
+    if path.is_dir():
+        from ._runio import read_run
+
+        if to is not None or at is not None or installed != 0.0:
+            raise InputError("a run is exported over its own target stroke; drop --to/--at/--from", where="export")
+        specs = run_specs(read_run(path), top=top)
+        if not specs:
+            raise InputError("the run has no Pareto designs to export", where=str(path))
+        files = {f"{s.design.name}/{name}": data for s in specs
+                 for name, data in export_files(s, source=f"{path.name}/designs/{s.design.name}.toml").items()}
+        folder = write_folder(files, out_dir or path / "export", replace=out_dir is None)
+    else:
+        from ._designio import load_design
+        from ._target import load_target
+
+        if top is not None:
+            raise InputError("--top applies to a run folder, not to a design", where="export")
+        if to is not None and at is not None:
+            raise InputError("give either --at TARGET.csv or --to X, not both", where="export")
+        d = load_design(path)
+        working = load_target(at).stroke_mm if at is not None else to
+        specs = [design_spec(d, Stroke(installed, working))]
+        folder = write_folder(export_files(specs[0], source=str(path)), out_dir or Path(f"{d.name}-export"))
+    _export_summary(specs, folder)
+
+
+def _export_summary(specs, folder):
+    """One line per element (per design when a run exports many), the notices and warnings."""
+    out.print(escape(f"wrote {folder}: {len(specs)} design(s)"))
+    for s in specs:
+        if len(specs) > 3:
+            n_dxf = sum("dxf" in r for r in s.records)
+            out.print(escape(f"  {s.design.name}/: {len(s.records)} element(s), {n_dxf} outline(s)"
+                             + ("  INFEASIBLE" if s.warning else "")))
+            continue
+        for r, e in zip(s.records, s.design.elements):
+            work = r.get("load_working_N")
+            loads = f"{r['load_installed_N']:.4g} N installed" + ("" if work is None else f", {work:.4g} N working")
+            out.print(escape(f"  {s.design.name} {r['part']}: {e.summary()}; {loads} per copy"
+                             + (f"; {r['dxf']}" if "dxf" in r else "")), soft_wrap=True)
+    for n in dict.fromkeys(n for s in specs for n in s.notes):
+        out.print(f"notice: {n}")
+    _caution()
+    for s in specs:
+        if s.warning:
+            err.print(f"[bold yellow]warning:[/] {escape(s.warning)}")
+
+
 def main():  # console-script entry point
     from springsynth._allocator import keep_temporaries_on_heap
 

@@ -1,0 +1,32 @@
+"""From a design to its parts: specifications and DXF outlines a maker can use.
+
+``springsynth export`` builds, per design, ``spec.csv`` and ``spec.json`` (one record per
+element) and, for every flat part, a DXF outline in mm with a PNG preview:
+
+* :mod:`.spec`    pure functions from a design and its stroke to records and outline profiles;
+* :mod:`.outline` ezdxf documents built in memory, their audit and preview images;
+* :mod:`.write`   the files of an export folder, written all or nothing.
+"""
+
+from __future__ import annotations
+
+from .spec import (
+    COIL_KINDS,
+    END_TYPES,
+    FLAT_KINDS,
+    RULES,
+    SOLID_KINDS,
+    DesignSpec,
+    PartRef,
+    Profile,
+    Stroke,
+    coil_ends,
+    design_spec,
+    parts,
+)
+from .write import export_files, run_specs, spec_csv, spec_json, write_folder
+
+__all__ = [
+    "COIL_KINDS", "END_TYPES", "FLAT_KINDS", "RULES", "SOLID_KINDS", "DesignSpec", "PartRef", "Profile", "Stroke",
+    "coil_ends", "design_spec", "export_files", "parts", "run_specs", "spec_csv", "spec_json", "write_folder",
+]
