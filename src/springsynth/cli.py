@@ -538,10 +538,11 @@ def export(
     top: Optional[int] = typer.Option(None, "--top", min=1, help="run: only the N lowest-error designs"),
 ):
     """What a maker needs: spec.csv and spec.json per design, a DXF outline and preview of each flat part."""
-    from .export import Stroke, design_spec, export_files, run_specs, write_folder
+    from springsynth.export import Stroke, design_spec, export_files, run_specs
+    from springsynth.io.export_folder import write_folder
 
     if path.is_dir():
-        from ._runio import read_run
+        from springsynth.io.runfolder import read_run
 
         if to is not None or at is not None or installed != 0.0:
             raise InputError("a run is exported over its own target stroke; drop --to/--at/--from", where="export")
@@ -552,8 +553,8 @@ def export(
                  for name, data in export_files(s, source=f"{path.name}/designs/{s.design.name}.toml").items()}
         folder = write_folder(files, out_dir or path / "export", replace=out_dir is None)
     else:
-        from ._designio import load_design
-        from ._target import load_target
+        from springsynth.io.design_toml import load_design
+        from springsynth.io.target_csv import load_target
 
         if top is not None:
             raise InputError("--top applies to a run folder, not to a design", where="export")

@@ -13,9 +13,9 @@ import pytest
 from typer.testing import CliRunner
 
 import springsynth as ss
-from springsynth._designio import design_to_toml
-from springsynth._errors import InputError
-from springsynth._materials import catalogue
+from springsynth.io.design_toml import design_to_toml
+from springsynth.model.errors import InputError
+from springsynth.model.materials import catalogue
 from springsynth.cli import app
 from springsynth.export import (
     COIL_KINDS,
@@ -26,9 +26,9 @@ from springsynth.export import (
     design_spec,
     export_files,
     parts,
-    write_folder,
 )
 from springsynth.export.outline import LAYER_NOTES
+from springsynth.io.export_folder import write_folder
 from tests.conftest import ROOT, blade, design
 
 runner = CliRunner()

@@ -27,7 +27,7 @@ IN = 25.4  # mm per inch
 
 
 def _design(kind, material, count=1, offset=0.0, **params):
-    from springsynth._materials import catalogue
+    from springsynth.model.materials import catalogue
 
     e = ss.Element(kind, material, count, offset, params)
     return ss.Design((e,), {material: catalogue()[material]}, name="t")
@@ -102,7 +102,7 @@ def test_compression_solid_length_is_the_one_the_model_checks():
     rec = design_spec(d, Stroke(0.0, 4.0)).records[1]
     kind = ss.registry()["helical_compression"]
     e = d.elements[1]
-    from springsynth._materials import MaterialArrays
+    from springsynth.model.materials import MaterialArrays
 
     p = {k: np.array([float(v)]) for k, v in e.params.items()}
     u = 5.0

@@ -26,7 +26,7 @@ from typing import Sequence
 
 import numpy as np
 
-from .spec import Profile
+from springsynth.export.spec import Profile
 
 __all__ = ["contours", "outline_document", "dxf_bytes", "audit_errors", "preview_png", "CHORD_TOLERANCE_MM",
            "LAYER_OUTLINE", "LAYER_MOUNT", "LAYER_NOTES", "LAYER_DIMENSIONS", "link_spacing"]

@@ -35,16 +35,18 @@ from __future__ import annotations
 import dataclasses
 import math
 from dataclasses import dataclass, field
-from typing import Any, Callable, Mapping
+from collections.abc import Callable, Mapping
+from typing import Any
 
 import numpy as np
 
-from .._assembly import Design, Element, evaluate_design
-from .._errors import InputError
-from .._materials import Material
-from .._tolerance import SOURCES as TOLERANCE_SOURCES
-from .._tolerance import material_class, param_tolerance
-from ..elements import get_kind, registry
+from springsynth.assembly.design import Design, Element
+from springsynth.assembly.evaluate import evaluate_design
+from springsynth.checks.tolerance import SOURCES as TOLERANCE_SOURCES
+from springsynth.checks.tolerance import material_class, param_tolerance
+from springsynth.elements import get_kind, registry
+from springsynth.model.errors import InputError
+from springsynth.model.materials import Material
 
 __all__ = [
     "Stroke", "PartRef", "Profile", "DesignSpec", "END_TYPES", "coil_ends", "parts", "design_spec",
@@ -344,7 +346,7 @@ def _helical_compression(part: PartRef) -> tuple[dict[str, Any], None]:
 
 
 def _helical_extension(part: PartRef) -> tuple[dict[str, Any], None]:
-    from ..elements.helical_extension import free_length, initial_stress_range
+    from springsynth.elements.helical_extension import free_length, initial_stress_range
 
     p = part.element.params
     d, D, Na, Fi = (float(p[k]) for k in ("wire_diameter_mm", "mean_diameter_mm", "active_coils", "initial_tension_N"))
@@ -460,7 +462,7 @@ def _column(part: PartRef) -> tuple[dict[str, Any], Profile]:
 
 
 def _ribbon(part: PartRef) -> tuple[dict[str, Any], Profile]:
-    from ..elements import ribbon as rb
+    from springsynth.elements import ribbon as rb
 
     p = part.element.params
     b, t, Rn = (float(p[k]) for k in ("width_mm", "thickness_mm", "natural_radius_mm"))

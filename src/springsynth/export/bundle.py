@@ -1,5 +1,6 @@
-"""Export folders: every file built in memory first, then written into a temporary folder
-that is renamed into place, so a failure leaves nothing half-written."""
+"""The files of an export folder, built in memory (no I/O): spec.csv, spec.json, README.txt
+and a DXF with its PNG preview per flat part. :func:`springsynth.io.export_folder.write_folder`
+writes them all or nothing."""
 
 from __future__ import annotations
 
@@ -7,19 +8,19 @@ import csv
 import io
 import json
 import math
-import os
-import secrets
-import shutil
-from pathlib import Path
-from typing import Any, Mapping
+from collections.abc import Mapping
+from typing import Any
 
-from .. import __version__
-from .._fileio import _os_error, new_folder
-from .._runio import CAUTION
-from .outline import LAYER_MOUNT, LAYER_NOTES, LAYER_OUTLINE, audit_errors, dxf_bytes, outline_document, preview_png
-from .spec import DesignSpec, Profile, Stroke, columns, design_spec
+import numpy as np
 
-__all__ = ["export_files", "write_folder", "spec_csv", "spec_json", "run_specs"]
+from springsynth.export.outline import (
+    LAYER_MOUNT, LAYER_NOTES, LAYER_OUTLINE, audit_errors, dxf_bytes, outline_document, preview_png,
+)
+from springsynth.export.spec import DesignSpec, Profile, Stroke, columns, design_spec
+from springsynth.model.safety import CAUTION
+from springsynth.model.version import __version__
+
+__all__ = ["export_files", "run_specs", "spec_csv", "spec_json"]
 
 
 
@@ -124,21 +125,20 @@ def run_specs(run, *, top: int | None = None) -> list[DesignSpec]:
     Parameters
     ----------
     run : RunFolder
-        A run folder read by :func:`~springsynth._runio.read_run`.
+        A run folder read by :func:`~springsynth.io.runfolder.read_run` (its study,
+        Pareto table and designs are used).
     top : int, optional
         Only the ``top`` designs of lowest curve error.
 
     The installed position is the start of the stroke, the working position the
     target's last point; a design the run marked infeasible carries the run's reasons.
     """
-    import numpy as np
-
     study = run.study()
     stroke = Stroke(0.0, float(study.target.stroke_mm))
     table = run.table
     order = np.arange(len(run.designs))
     if top is not None:
-        err = pd_numeric(table, "curve_error_pct")
+        err = _numeric(table, "curve_error_pct")
         order = np.argsort(err, kind="stable")[:top]
     specs = []
     for i in order:
@@ -150,56 +150,10 @@ def run_specs(run, *, top: int | None = None) -> list[DesignSpec]:
     return specs
 
 
-def pd_numeric(table, column: str):
+def _numeric(table, column: str) -> np.ndarray:
     """A table column as floats (NaN where missing or not a number)."""
-    import numpy as np
     import pandas as pd
 
     if column not in table:
         return np.full(len(table), np.nan)
     return pd.to_numeric(table[column], errors="coerce").to_numpy(float)
-
-
-# --------------------------------------------------------------------------- atomic folders
-
-def write_folder(files: Mapping[str, bytes], out: Path, *, replace: bool = False) -> Path:
-    """Write ``files`` (relative name -> bytes) as the folder ``out``, all or nothing.
-
-    The files go into a temporary folder beside ``out`` that is renamed into place
-    once complete. ``replace=False``: an existing ``out`` is kept and ``out-2``,
-    ``out-3``, ... is used instead; ``replace=True``: an existing ``out`` is swapped for
-    the new one. Returns the folder written. On any failure the temporary folder is
-    removed and nothing is left behind.
-    """
-    out = Path(out)
-    try:
-        out.parent.mkdir(parents=True, exist_ok=True)
-        tmp = out.parent / f".{out.name}.{secrets.token_hex(6)}.tmp"
-        tmp.mkdir()
-    except OSError as e:
-        raise _os_error(e, out.parent) from None
-    old = None
-    try:
-        for name, data in files.items():
-            path = tmp / name
-            path.parent.mkdir(parents=True, exist_ok=True)
-            path.write_bytes(data)
-        if replace and out.exists():
-            old = out.with_name(f".{out.name}.old-{os.getpid()}")
-            os.rename(out, old)
-            dest = out
-        else:
-            dest = new_folder(out)      # reserves a fresh name ...
-            os.rmdir(dest)              # ... that the complete folder takes over
-        os.rename(tmp, dest)
-    except OSError as e:
-        shutil.rmtree(tmp, ignore_errors=True)
-        if old is not None and not out.exists():
-            os.rename(old, out)
-        raise _os_error(e, out) from None
-    except BaseException:
-        shutil.rmtree(tmp, ignore_errors=True)
-        raise
-    if old is not None:
-        shutil.rmtree(old, ignore_errors=True)
-    return dest
