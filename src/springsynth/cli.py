@@ -546,7 +546,8 @@ def export(
 
         if to is not None or at is not None or installed != 0.0:
             raise InputError("a run is exported over its own target stroke; drop --to/--at/--from", where="export")
-        specs = run_specs(read_run(path), top=top)
+        run_ = read_run(path)
+        specs = run_specs(run_.designs, run_.table, run_.study(), top=top)
         if not specs:
             raise InputError("the run has no Pareto designs to export", where=str(path))
         files = {f"{s.design.name}/{name}": data for s in specs

@@ -5,6 +5,7 @@ from __future__ import annotations
 import csv
 import io
 import json
+import re
 from pathlib import Path
 
 import ezdxf
@@ -67,7 +68,7 @@ def test_every_kind_exports_a_spec_and_a_clean_dxf_of_flat_parts(kind):
     unitless = ("spring_index", "active_coils", "total_coils", "body_coils", "shape_factor", "stress_ratio_peak")
     for k, v in rec.items():                                    # every number carries its unit in its name
         assert not isinstance(v, float) or k.endswith(("_mm", "_N", "_N_per_mm", "_MPa", "_g")) or k in unitless, k
-    files = export_files(spec, previews=False)
+    files = export_files(spec, with_previews=False)
     assert {"spec.csv", "spec.json", "README.txt"} <= set(files)
     if kind in FLAT_KINDS:
         doc = ezdxf.read(io.StringIO(files[rec["dxf"]].decode("utf-8")))
@@ -211,6 +212,17 @@ def test_cli_exports_a_run_top_designs(tmp_path):
     run = tmp_path / "run"
     r = runner.invoke(app, ["run", str(study), "--out", str(run), "--population", "16", "--generations", "3"])
     assert r.exit_code in (0, 1), r.output
+    # every design card of the report shows its maker's table and a preview per flat part
+    page = (run / "report.html").read_text()
+    designs = [ss.load_design(p) for p in sorted((run / "designs").glob("*.toml"))]
+    cards = re.findall(r'<section class=card id="card-([^"]+)">(.*?)</section>', page, flags=re.S)
+    assert len(cards) == len(designs) > 0
+    flat = {d.name: sum(e.kind in FLAT_KINDS for e in d.elements) for d in designs}
+    n_elements = {d.name: len(d.elements) for d in designs}
+    for name, body in cards:
+        maker = body[body.index("Maker's specification"):]
+        assert maker[:maker.index("</table>")].count("<tr><td>e") == n_elements[name]
+        assert len(re.findall(r'alt="[^"]* outline" src="data:image/png;base64,', maker)) == flat[name]
     r = runner.invoke(app, ["export", str(run), "--top", "2"])
     assert r.exit_code == 0, r.output
     ids = [Path(p).name for p in sorted((run / "export").iterdir())]

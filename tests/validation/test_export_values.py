@@ -35,7 +35,7 @@ def _design(kind, material, count=1, offset=0.0, **params):
 
 def _read_back(tmp_path, spec, label):
     """Write the export, read the part's DXF back with ezdxf; returns (doc, outline polylines)."""
-    files = export_files(spec, previews=False)
+    files = export_files(spec, with_previews=False)
     rec = next(r for r in spec.records if r["part"] == label)
     path = tmp_path / rec["dxf"]
     path.write_bytes(files[rec["dxf"]])

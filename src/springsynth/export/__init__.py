@@ -13,7 +13,7 @@ bundle all or nothing.
 
 from __future__ import annotations
 
-from springsynth.export.bundle import export_files, run_specs, spec_csv, spec_json
+from springsynth.export.bundle import export_files, outlines, previews, run_specs, spec_csv, spec_json
 from springsynth.export.spec import (
     COIL_KINDS, END_TYPES, FLAT_KINDS, RULES, SOLID_KINDS, DesignSpec, PartRef, Profile, Stroke, coil_ends, design_spec,
     parts,
@@ -21,5 +21,5 @@ from springsynth.export.spec import (
 
 __all__ = [
     "COIL_KINDS", "END_TYPES", "FLAT_KINDS", "RULES", "SOLID_KINDS", "DesignSpec", "PartRef", "Profile", "Stroke",
-    "coil_ends", "design_spec", "export_files", "parts", "run_specs", "spec_csv", "spec_json",
+    "coil_ends", "design_spec", "export_files", "outlines", "parts", "previews", "run_specs", "spec_csv", "spec_json",
 ]

@@ -14,13 +14,13 @@ from typing import Any
 import numpy as np
 
 from springsynth.export.outline import (
-    LAYER_MOUNT, LAYER_NOTES, LAYER_OUTLINE, audit_errors, dxf_bytes, outline_document, preview_png,
+    LAYER_MOUNT, LAYER_NOTES, LAYER_OUTLINE, audit_errors, dxf_bytes, mm_text, outline_document, preview_png,
 )
 from springsynth.export.spec import DesignSpec, Profile, Stroke, columns, design_spec
 from springsynth.model.safety import CAUTION
 from springsynth.model.version import __version__
 
-__all__ = ["export_files", "run_specs", "spec_csv", "spec_json"]
+__all__ = ["export_files", "outlines", "previews", "run_specs", "spec_csv", "spec_json"]
 
 
 
@@ -59,44 +59,70 @@ def _dxf_notes(rec: Mapping[str, Any], prof: Profile) -> list[str]:
     lines = [(f"{rec['design']} {rec['part']}: {rec['kind']}, quantity {rec['quantity']}; units mm "
               f"(springsynth {__version__} export)"), f"material: {rec['material_name']}"]
     if prof.shape == "strip_blank":
-        lines.append(f"flat blank in plan view, strip {prof.thickness_mm:g} mm thick; the fixing region lies beyond "
-                     f"the dashed line")
+        lines.append(f"flat blank in plan view, strip {mm_text(prof.thickness_mm)} mm thick; the fixing region "
+                     "lies beyond the dashed line")
     elif prof.shape == "wire":
-        lines.append(f"round wire {prof.thickness_mm:g} mm, clamped beyond the dashed lines")
+        lines.append(f"round wire {mm_text(prof.thickness_mm)} mm, clamped beyond the dashed lines")
     else:
-        dims = f"thickness {prof.thickness_mm:g} mm"
+        dims = f"thickness {mm_text(prof.thickness_mm)} mm"
         if prof.rise_mm:
-            dims += f", rise {prof.rise_mm:g} mm, {rec['shape']}"
+            dims += f", rise {mm_text(prof.rise_mm)} mm, {rec['shape']}"
         if prof.notch_radius_mm:
-            dims += f", hinge distance {prof.length_mm:g} mm, notch radius {prof.notch_radius_mm:g} mm"
-        lines.append(f"plane of bending; plate {prof.width_mm:g} mm thick (out of the drawing); {dims}")
+            dims += f", hinge distance {mm_text(prof.length_mm)} mm, notch radius {mm_text(prof.notch_radius_mm)} mm"
+        lines.append(f"plane of bending; plate {mm_text(prof.width_mm)} mm thick (out of the drawing); {dims}")
         lines.append(f"supports: {rec['supports']}")
-        lines.append(f"mounting blocks {max(prof.mount_mm):g} x {prof.block_mm:g} mm: adapt them to the fixture")
+        lines.append(f"mounting blocks {mm_text(max(prof.mount_mm))} x {mm_text(prof.block_mm)} mm: adapt them to "
+                     "the fixture")
     lines.append(f"grain: {rec['grain']}")
     lines.append(f"cut layer {LAYER_OUTLINE} only; the other layers are reference")
     return lines
 
 
-def export_files(spec: DesignSpec, *, source: str = "", previews: bool = True) -> dict[str, bytes]:
-    """Every file of one design's export folder, in memory: relative name -> content.
+def outlines(spec: DesignSpec, *, notes: bool = True) -> dict[str, object]:
+    """The DXF document of every flat part, keyed by its part label; each passes ezdxf's audit.
 
-    ``spec.csv``, ``spec.json``, ``README.txt`` and, per flat part, ``<part>-<kind>.dxf``
-    and its preview ``<part>-<kind>.png``. Each DXF must pass ezdxf's audit.
+    ``notes=False`` leaves out the text (warning and notes) below the outline.
     """
-    files = {"spec.csv": spec_csv(spec).encode("utf-8"), "spec.json": spec_json(spec, source=source).encode("utf-8")}
     by_label = {r["part"]: r for r in spec.records}
+    docs = {}
     for label, prof in spec.profiles.items():
-        rec = by_label[label]
-        doc = outline_document(prof, notes=_dxf_notes(rec, prof), warning=spec.warning)
+        text = _dxf_notes(by_label[label], prof) if notes else ()
+        doc = outline_document(prof, notes=text, warning=spec.warning if notes else "")
         problems = audit_errors(doc)
         if problems:  # a fault of this program, not of the user's input
             raise RuntimeError(f"DXF of {spec.design.name} {label} fails ezdxf's audit: {problems}")
-        stem = rec["dxf"].removesuffix(".dxf")
-        files[rec["dxf"]] = dxf_bytes(doc)
-        if previews:
-            title = f"{spec.design.name} {label}: {rec['kind']} x{rec['quantity']}"
-            title += "  (INFEASIBLE)" if spec.warning else ""
-            files[f"{stem}.png"] = preview_png(doc, title=title)
+        docs[label] = doc
+    return docs
+
+
+def previews(spec: DesignSpec, docs: Mapping[str, object] | None = None, *, dpi: int = 110) -> dict[str, bytes]:
+    """PNG preview of every flat part (its DXF drawn back by ezdxf), keyed by its part label."""
+    docs = outlines(spec) if docs is None else docs
+    by_label = {r["part"]: r for r in spec.records}
+    out = {}
+    for label, doc in docs.items():
+        rec = by_label[label]
+        title = f"{spec.design.name} {label}: {rec['kind']} x{rec['quantity']}"
+        title += "  (INFEASIBLE)" if spec.warning else ""
+        out[label] = preview_png(doc, title=title, dpi=dpi)
+    return out
+
+
+def export_files(spec: DesignSpec, *, source: str = "", with_previews: bool = True) -> dict[str, bytes]:
+    """Every file of one design's export folder, in memory: relative name -> content.
+
+    ``spec.csv``, ``spec.json``, ``README.txt`` and, per flat part, ``<part>-<kind>.dxf``
+    and its preview ``<part>-<kind>.png``.
+    """
+    files = {"spec.csv": spec_csv(spec).encode("utf-8"), "spec.json": spec_json(spec, source=source).encode("utf-8")}
+    by_label = {r["part"]: r for r in spec.records}
+    docs = outlines(spec)
+    pngs = previews(spec, docs) if with_previews else {}
+    for label, doc in docs.items():
+        name = by_label[label]["dxf"]
+        files[name] = dxf_bytes(doc)
+        if label in pngs:
+            files[name.removesuffix(".dxf") + ".png"] = pngs[label]
     files["README.txt"] = _readme(spec, source).encode("utf-8")
     return files
 
@@ -119,33 +145,36 @@ def _readme(spec: DesignSpec, source: str) -> str:
     return "\n".join(lines)
 
 
-def run_specs(run, *, top: int | None = None) -> list[DesignSpec]:
+def run_specs(designs, table, study, *, top: int | None = None) -> list[DesignSpec]:
     """Specifications of a run's Pareto designs over its target's stroke.
 
     Parameters
     ----------
-    run : RunFolder
-        A run folder read by :func:`~springsynth.io.runfolder.read_run` (its study,
-        Pareto table and designs are used).
+    designs : sequence of Design
+        The run's Pareto designs, in the order of ``table``.
+    table : pandas.DataFrame
+        The run's ``pareto.csv`` (``curve_error_pct``, ``feasible``, ``violations``).
+    study : Study
+        The run's study: its target's last point is the working position, its
+        ``limits.stress_ratio`` the stress limit.
     top : int, optional
         Only the ``top`` designs of lowest curve error.
 
-    The installed position is the start of the stroke, the working position the
-    target's last point; a design the run marked infeasible carries the run's reasons.
+    The installed position is the start of the stroke; a design the run marked
+    infeasible carries the run's reasons on every file.
     """
-    study = run.study()
     stroke = Stroke(0.0, float(study.target.stroke_mm))
-    table = run.table
-    order = np.arange(len(run.designs))
+    order = np.arange(len(designs))
     if top is not None:
-        err = _numeric(table, "curve_error_pct")
-        order = np.argsort(err, kind="stable")[:top]
+        order = np.argsort(_numeric(table, "curve_error_pct"), kind="stable")[:top]
     specs = []
     for i in order:
         row = table.iloc[int(i)]
         feasible = str(row.get("feasible", "True")).strip().lower() in ("true", "1", "yes")
-        why = () if feasible else (f"infeasible in its run ({row.get('violations') or 'see pareto.csv'})",)
-        specs.append(design_spec(run.designs[int(i)], stroke, stress_limit=study.limits.stress_ratio,
+        viol = row.get("violations")
+        viol = viol if isinstance(viol, str) and viol else "see pareto.csv"
+        why = () if feasible else (f"infeasible in its run ({viol})",)
+        specs.append(design_spec(designs[int(i)], stroke, stress_limit=study.limits.stress_ratio,
                                  extra_warnings=why))
     return specs
 

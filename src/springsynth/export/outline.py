@@ -29,7 +29,7 @@ import numpy as np
 from springsynth.export.spec import Profile
 
 __all__ = ["contours", "outline_document", "dxf_bytes", "audit_errors", "preview_png", "CHORD_TOLERANCE_MM",
-           "LAYER_OUTLINE", "LAYER_MOUNT", "LAYER_NOTES", "LAYER_DIMENSIONS", "link_spacing"]
+           "LAYER_OUTLINE", "LAYER_MOUNT", "LAYER_NOTES", "LAYER_DIMENSIONS", "link_spacing", "mm_text"]
 
 #: largest distance between a sampled face and the true curve, mm
 CHORD_TOLERANCE_MM = 1e-3
@@ -158,6 +158,11 @@ def _mount_edges(prof: Profile) -> list[tuple[tuple[float, float], tuple[float, 
 
 # --------------------------------------------------------------------------- DXF document
 
+def mm_text(v: float) -> str:
+    """A length for people: to 0.001 mm, trailing zeros dropped (``49.498``, ``0.12``, ``40``)."""
+    return f"{v:.3f}".rstrip("0").rstrip(".")
+
+
 def _text_height(prof: Profile) -> float:
     """Height of the notes, mm: a line of :data:`WRAP` characters about 2/3 as long as the part."""
     span = prof.length_mm + sum(prof.mount_mm)
@@ -212,7 +217,7 @@ def _length_dimension(msp, prof: Profile, y: float, th: float) -> float:
     """A linear dimension of the flexing length below the part (layer ``DIMENSIONS``); returns its lowest y."""
     x1 = prof.length_mm
     base = y - th
-    dim = msp.add_linear_dim(base=(0.5 * x1, base), p1=(0.0, y + th), p2=(x1, y + th), text=f"{x1:.6g}",
+    dim = msp.add_linear_dim(base=(0.5 * x1, base), p1=(0.0, y + th), p2=(x1, y + th), text=mm_text(x1),
                              override={"dimtxt": th, "dimasz": th, "dimexe": 0.5 * th, "dimexo": 0.5 * th,
                                        "dimgap": 0.3 * th},
                              dxfattribs={"layer": LAYER_DIMENSIONS})
@@ -250,7 +255,7 @@ def preview_png(doc, *, title: str = "", dpi: int = 110) -> bytes:
     cfg = Configuration(background_policy=BackgroundPolicy.WHITE, min_lineweight=0.4)
     Frontend(RenderContext(doc), MatplotlibBackend(ax), config=cfg).draw_layout(doc.modelspace(), finalize=True)
     if title:
-        fig.suptitle(title, fontsize=10, x=0.02, y=0.99, ha="left", va="top")
+        fig.suptitle(title, fontsize=12, x=0.02, y=0.99, ha="left", va="top")
     buf = io.BytesIO()
     fig.savefig(buf, format="png", dpi=dpi, facecolor="white")
     return buf.getvalue()

@@ -7,7 +7,8 @@ the analytic models (no search), and renders
 
 * ``pareto.png``, ``curves.png``, ``convergence.png`` and ``designs/<id>.png``;
 * ``report.html``: run summary, figures, a sortable table of the designs and a card per
-  design (dimensions, materials, model validity and sources, verification columns
+  design (dimensions, materials, the maker's specification and outline previews of
+  :mod:`springsynth.report.maker`, model validity and sources, verification columns
   when present). Every figure is inlined as a base64 PNG; CSS and the small sorting
   script are inline too, so the file can be mailed or archived on its own.
 
@@ -34,6 +35,7 @@ from springsynth.elements import get_kind
 from springsynth.model.numbers import pct_text, size_text, thousands
 from springsynth.model.safety import CAUTION
 from springsynth.model.study import Study
+from springsynth.report.maker import MakerView, maker_section, maker_views
 
 __all__ = ["render_report", "RenderedReport", "ReportInput", "REPORT", "BASE_COLUMNS", "extra_columns"]
 
@@ -391,7 +393,8 @@ def _model_notes(d: Design) -> str:
     return "<ul class=notes>" + "".join(items) + "</ul>"
 
 
-def _card(run: ReportInput, i: int, d: Design, r: Response, png: bytes | None, roles: Sequence[str]) -> str:
+def _card(run: ReportInput, i: int, d: Design, r: Response, png: bytes | None, roles: Sequence[str],
+          maker: MakerView | None = None) -> str:
     row = run.table.iloc[i]
     feas = bool(_feasible(run.table)[i])
     tags = "".join(f'<span class="badge role">{_e(x)}</span>' for x in roles)
@@ -417,6 +420,8 @@ def _card(run: ReportInput, i: int, d: Design, r: Response, png: bytes | None, r
                      f"Force along the stroke with each element's share stacked (negative shares below zero), "
                      f"the target and its band; the stress ratio against its limit; a sketch of the arrangement "
                      f"(file <code>designs/{_e(d.name)}.png</code>).</figcaption></figure>")
+    if maker is not None:
+        parts.append(maker_section(maker))
     parts.append(f"<details><summary>Model validity and sources</summary>{_model_notes(d)}</details>")
     outside = {k: float(v[0]) for k, v in r.validity.items() if float(v[0]) > 0}
     if outside:
@@ -427,7 +432,7 @@ def _card(run: ReportInput, i: int, d: Design, r: Response, png: bytes | None, r
 
 
 def _html(run: ReportInput, figs: Mapping[str, bytes], per_design: Mapping[str, bytes], responses: Mapping[str, Response],
-          roles: Mapping[str, list[str]]) -> str:
+          roles: Mapping[str, list[str]], makers: Mapping[str, MakerView] | None = None) -> str:
     from springsynth.model.version import __version__
 
     name = run.meta.get("study", run.study.name)
@@ -443,8 +448,9 @@ def _html(run: ReportInput, figs: Mapping[str, bytes], per_design: Mapping[str, 
     width = {"curves.png": "w880", "convergence.png": "w700"}
     sections = [f'<figure class="{width.get(f, "")}">{_img(figs[f], captions[f][0])}<figcaption>{_e(captions[f][1])} '
                 f"(<code>{f}</code>)</figcaption></figure>" for f in captions if f in figs]
-    cards = "".join(_card(run, i, d, responses[d.name], per_design.get(d.name), roles.get(d.name, []))
-                    for i, d in enumerate(run.designs))
+    makers = makers or {}
+    cards = "".join(_card(run, i, d, responses[d.name], per_design.get(d.name), roles.get(d.name, []),
+                          makers.get(d.name)) for i, d in enumerate(run.designs))
     return f"""<!DOCTYPE html>
 <html lang="en"><head><meta charset="utf-8">
 <meta name="viewport" content="width=device-width, initial-scale=1">
@@ -493,4 +499,5 @@ def render_report(run: ReportInput) -> RenderedReport:
     models the search used.
     """
     figs, per_design, responses, roles = _figures(run)
-    return RenderedReport(figs, per_design, _html(run, figs, per_design, responses, roles))
+    makers = maker_views(run.designs, run.table, run.study)
+    return RenderedReport(figs, per_design, _html(run, figs, per_design, responses, roles, makers))
