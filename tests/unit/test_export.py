@@ -14,9 +14,6 @@ import pytest
 from typer.testing import CliRunner
 
 import springsynth as ss
-from springsynth.io.design_toml import design_to_toml
-from springsynth.model.errors import InputError
-from springsynth.model.materials import catalogue
 from springsynth.cli import app
 from springsynth.export import (
     COIL_KINDS,
@@ -29,7 +26,10 @@ from springsynth.export import (
     parts,
 )
 from springsynth.export.outline import LAYER_NOTES
+from springsynth.io.design_toml import design_to_toml
 from springsynth.io.export_folder import write_folder
+from springsynth.model.errors import InputError
+from springsynth.model.materials import catalogue
 from tests.conftest import ROOT, blade, design
 
 runner = CliRunner()

@@ -15,7 +15,17 @@ from __future__ import annotations
 
 from springsynth.export.bundle import export_files, outlines, previews, run_specs, spec_csv, spec_json
 from springsynth.export.spec import (
-    COIL_KINDS, END_TYPES, FLAT_KINDS, RULES, SOLID_KINDS, DesignSpec, PartRef, Profile, Stroke, coil_ends, design_spec,
+    COIL_KINDS,
+    END_TYPES,
+    FLAT_KINDS,
+    RULES,
+    SOLID_KINDS,
+    DesignSpec,
+    PartRef,
+    Profile,
+    Stroke,
+    coil_ends,
+    design_spec,
     parts,
 )
 

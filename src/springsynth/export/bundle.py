@@ -14,7 +14,14 @@ from typing import Any
 import numpy as np
 
 from springsynth.export.outline import (
-    LAYER_MOUNT, LAYER_NOTES, LAYER_OUTLINE, audit_errors, dxf_bytes, mm_text, outline_document, preview_png,
+    LAYER_MOUNT,
+    LAYER_NOTES,
+    LAYER_OUTLINE,
+    audit_errors,
+    dxf_bytes,
+    mm_text,
+    outline_document,
+    preview_png,
 )
 from springsynth.export.spec import DesignSpec, Profile, Stroke, columns, design_spec
 from springsynth.model.safety import CAUTION

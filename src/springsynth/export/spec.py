@@ -34,8 +34,8 @@ from __future__ import annotations
 
 import dataclasses
 import math
-from dataclasses import dataclass, field
 from collections.abc import Callable, Mapping
+from dataclasses import dataclass, field
 from typing import Any
 
 import numpy as np
@@ -264,14 +264,13 @@ def _rate(part: PartRef) -> float:
 
 def _tolerances(part: PartRef) -> dict[str, float]:
     """+- tolerance of each dimension as the tolerance model samples it (own units)."""
-    m = part.material
-    cls = material_class(np.array([m.E_MPa]), np.array([m.hyperelastic]))
+    cls = np.array([_material_class(part)])
     out = {}
     for q in get_kind(part.element.kind).params:
         if q.choices:
             continue
         v = float(part.element.params[q.name])
-        tol = float(param_tolerance(part.element.kind, q.name, np.array([v]), cls)[0])
+        tol = float(param_tolerance(q, np.array([v]), cls)[0])
         if tol > 0:
             out[q.name] = tol
     return out
@@ -281,21 +280,21 @@ def _tolerance_text(tols: Mapping[str, float]) -> str:
     return "; ".join(f"{k} ±{v:.3g}" for k, v in tols.items())
 
 
-def _grade(part: PartRef, *extra: str) -> str:
-    """Tolerance classes the tolerance model assumed for this part, with their provenance."""
+def _material_class(part: PartRef) -> int:
+    """0 metal, 1 polymer, 2 elastomer (as the tolerance model classes the material)."""
     m = part.material
-    cls = int(material_class(np.array([m.E_MPa]), np.array([m.hyperelastic]))[0])
-    forms = get_kind(part.element.kind).forms
-    if extra:
-        keys = extra
-    elif "wire" in forms:
-        keys = ("drawn_wire", "machined")
-    elif cls == 0:
-        keys = ("rolled_strip", "slit_width", "machined")
-    elif cls == 1:
-        keys = ("moulded",)
-    else:
-        keys = ("moulded_rubber",)
+    return int(material_class(np.array([m.E_MPa]), np.array([m.hyperelastic]))[0])
+
+
+def _grade(part: PartRef) -> str:
+    """Where the tolerance model takes each of the part's tolerances from, by the classes its kind declares."""
+    cls = _material_class(part)
+    by_class = {"linear": ("machined", "moulded", "moulded_rubber")[cls],
+                "width": ("slit_width", "moulded", "moulded_rubber")[cls],
+                "strip": ("rolled_strip", "moulded", "moulded_rubber")[cls],
+                "wire": "drawn_wire", "coiling": "coiling", "coils": "coiling", "tension": "initial_tension",
+                "set_radius": "ribbon_radius"}
+    keys = dict.fromkeys(by_class[q.tolerance] for q in get_kind(part.element.kind).params if q.tolerance in by_class)
     return "; ".join(TOLERANCE_SOURCES[k] for k in keys) + " (as `springsynth tolerance` samples them)"
 
 
@@ -339,7 +338,7 @@ def _helical_compression(part: PartRef) -> tuple[dict[str, Any], None]:
         seats="flat parallel seats (the buckling check assumes both ends on flat parallel plates)",
         presetting="not required: the allowable stress assumes set not removed (Shigley Table 10-6)",
         tolerance_grade=("quality grade 2 of EN 15800, which replaced DIN 2095 [memory]; the tolerance model's values: "
-                         + _grade(part, "coiling", "drawn_wire")),
+                         + _grade(part)),
     )
     rec.update({k2: v for k2, v in loads.items() if k2 not in rec})
     return rec, None
@@ -369,18 +368,16 @@ def _helical_extension(part: PartRef) -> tuple[dict[str, Any], None]:
     rec.update(
         wire_length_mm=math.pi * D * (Nb + 2.0 * HOOK_COILS), winding="either hand (left to the maker), close-wound",
         tolerance_grade=("quality grade 2 of DIN 2097 [memory] (EN 15800 covers compression springs only); the "
-                         "tolerance model's values: " + _grade(part, "coiling", "drawn_wire", "initial_tension")),
+                         "tolerance model's values: " + _grade(part)),
     )
     rec.update({k2: v for k2, v in loads.items() if k2 not in rec})
     return rec, None
 
 
 def _grain(part: PartRef) -> str:
-    m = part.material
-    cls = int(material_class(np.array([m.E_MPa]), np.array([m.hyperelastic]))[0])
     return ("rolling direction along the length, bend lines across the grain [common practice]",
             "no rolling grain; any extrusion or flow direction along the length [common practice]",
-            "none (moulded elastomer)")[cls]
+            "none (moulded elastomer)")[_material_class(part)]
 
 
 _SUPPORTS = {
