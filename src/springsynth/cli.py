@@ -577,11 +577,12 @@ def _export_summary(specs, folder):
             out.print(escape(f"  {s.design.name}/: {len(s.records)} element(s), {n_dxf} outline(s)"
                              + ("  INFEASIBLE" if s.warning else "")))
             continue
-        for r, e in zip(s.records, s.design.elements):
+        for r in s.records:
             work = r.get("load_working_N")
             loads = f"{r['load_installed_N']:.4g} N installed" + ("" if work is None else f", {work:.4g} N working")
-            out.print(escape(f"  {s.design.name} {r['part']}: {e.summary()}; {loads} per copy"
-                             + (f"; {r['dxf']}" if "dxf" in r else "")), soft_wrap=True)
+            out.print(escape(f"  {s.design.name} {r['part']}: {r['quantity']}x {r['kind']} [{r['material']}], "
+                             f"{r['position']}; {loads} per copy" + (f"; {r['dxf']}" if "dxf" in r else "")),
+                      soft_wrap=True)
     for n in dict.fromkeys(n for s in specs for n in s.notes):
         out.print(f"notice: {n}")
     _caution()

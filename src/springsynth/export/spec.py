@@ -306,7 +306,7 @@ def _head(design: Design, part: PartRef) -> dict[str, Any]:
     if o > 1e-9:
         pos = f"gap {o:.4g} mm: engages once the stroke passes {o:.4g} mm"
     elif o < -1e-9:
-        pos = f"preloaded by {-o:.4g} mm at assembly"
+        pos = f"preloaded by {-o:.4g} mm at the start of the stroke (x = 0)"
     else:
         pos = "engaged from the start of the stroke"
     copies = ", ".join(f"{part.label}-{k}" for k in range(1, e.count + 1))
@@ -375,6 +375,8 @@ def _helical_extension(part: PartRef) -> tuple[dict[str, Any], None]:
 
 
 def _grain(part: PartRef) -> str:
+    if "wire" in get_kind(part.element.kind).forms:
+        return "drawn wire: its drawing direction runs along the length by itself"
     return ("rolling direction along the length, bend lines across the grain [common practice]",
             "no rolling grain; any extrusion or flow direction along the length [common practice]",
             "none (moulded elastomer)")[_material_class(part)]
