@@ -88,13 +88,14 @@ def _dxf_notes(rec: Mapping[str, Any], prof: Profile) -> list[str]:
 def outlines(spec: DesignSpec, *, notes: bool = True) -> dict[str, object]:
     """The DXF document of every flat part, keyed by its part label; each passes ezdxf's audit.
 
-    ``notes=False`` leaves out the text (warning and notes) below the outline.
+    ``notes=False`` leaves out everything below the outline (dimension, warning and notes),
+    for quick previews.
     """
     by_label = {r["part"]: r for r in spec.records}
     docs = {}
     for label, prof in spec.profiles.items():
         text = _dxf_notes(by_label[label], prof) if notes else ()
-        doc = outline_document(prof, notes=text, warning=spec.warning if notes else "")
+        doc = outline_document(prof, notes=text, warning=spec.warning if notes else "", dimension=notes)
         problems = audit_errors(doc)
         if problems:  # a fault of this program, not of the user's input
             raise RuntimeError(f"DXF of {spec.design.name} {label} fails ezdxf's audit: {problems}")

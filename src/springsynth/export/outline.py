@@ -169,7 +169,7 @@ def _text_height(prof: Profile) -> float:
     return float(np.clip(span / (0.9 * WRAP), 0.2, 10.0))
 
 
-def outline_document(prof: Profile, *, notes: Sequence[str] = (), warning: str = ""):
+def outline_document(prof: Profile, *, notes: Sequence[str] = (), warning: str = "", dimension: bool = True):
     """An ezdxf document (DXF R2010, mm) of the part's outline with its notes.
 
     Parameters
@@ -179,6 +179,8 @@ def outline_document(prof: Profile, *, notes: Sequence[str] = (), warning: str =
         Lines of text placed below the outline (layer ``NOTES``).
     warning : str
         Placed first, in red, when not empty (an infeasible design).
+    dimension : bool
+        Dimension the flexing length below the part (layer ``DIMENSIONS``).
 
     Returns
     -------
@@ -204,7 +206,7 @@ def outline_document(prof: Profile, *, notes: Sequence[str] = (), warning: str =
     th = _text_height(prof)
     x0 = min(v[0] for c in contours(prof) for v in c)
     y = min(ys) - 2.0 * th
-    if prof.shape not in ("notch_stage",):
+    if dimension and prof.shape != "notch_stage":
         y = _length_dimension(msp, prof, y, th) - 1.5 * th
     lines = [(w, 1) for w in textwrap.wrap(warning, WRAP)] + [(w, 256) for n in notes for w in textwrap.wrap(n, WRAP)]
     for text, color in lines:

@@ -48,7 +48,7 @@ class MakerView:
 def maker_views(designs, table, study) -> dict[str, MakerView]:
     """Specification and outline previews of every design of a run, keyed by design name."""
     specs = run_specs(designs, table, study)
-    # the card's table says what the DXF notes say: the previews leave the text out (5x faster)
+    # the card's table says what the DXF's notes and dimension say: the previews leave them out (text is slow to draw)
     return {s.design.name: MakerView(s, previews(s, outlines(s, notes=False), dpi=PREVIEW_DPI)) for s in specs}
 
 
@@ -98,7 +98,7 @@ def maker_section(view: MakerView) -> str:
         src = base64.b64encode(png).decode("ascii")
         parts.append(f'<figure class=w700><img alt="{_e(spec.design.name)} {_e(label)} outline" '
                      f'src="data:image/png;base64,{src}"><figcaption>Outline of {_e(label)} ({_e(rec["kind"])}) in the '
-                     f"plane of bending, mm, drawn back from its DXF <code>{_e(rec['dxf'])}</code> (without its notes)."
+                     f"plane of bending, drawn back from its DXF <code>{_e(rec['dxf'])}</code> (without its notes and dimension)."
                      "</figcaption>"
                      "</figure>")
     parts.append("<p class=sub>Loads at the start (installed) and the end (working) of the target's stroke. "
