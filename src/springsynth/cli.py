@@ -61,7 +61,7 @@ def evaluate(
     at: Optional[Path] = typer.Option(None, "--at", help="evaluate at the points of this target CSV (and report the error)"),
     to: Optional[float] = typer.Option(None, "--to", help="largest displacement, mm (with --points)"),
     points: int = typer.Option(41, "--points", help="number of evenly spaced points from 0 to --to"),
-    out_csv: Optional[Path] = typer.Option(None, "--out", help="write displacement_mm,force_N,stress_ratio and per-element forces"),
+    out_csv: Optional[Path] = typer.Option(None, "--out", help="write displacement_mm,force_N,stress_ratio, per-element forces and kind-specific columns (e.g. parasitic travel)"),
     plot: Optional[Path] = typer.Option(None, "--plot", help="write a PNG of force (stacked by element) and stress ratio"),
 ):
     """Forward model of one design: force and stress ratio along the stroke."""
@@ -123,9 +123,12 @@ def evaluate(
 def _evaluation_frame(d, r):
     import pandas as pd
 
+    from springsynth.assembly.evaluate import element_extra_outputs
+
     cols = {"displacement_mm": r.x_mm, "force_N": r.force_N[0], "stress_ratio": r.stress_ratio_curve[0]}
     for j, e in enumerate(d.elements):
         cols[f"e{j + 1}_{e.kind}_N"] = r.element_force_N[0, j]
+    cols.update(element_extra_outputs(d, r.x_mm))     # e.g. a stage's parasitic travel
     return pd.DataFrame(cols)
 
 

@@ -23,10 +23,11 @@ import numpy as np
 
 from springsynth.assembly.design import Design
 from springsynth.assembly.slots import Slots
+from springsynth.elements import get_kind
 from springsynth.model.materials import MaterialArrays
 from springsynth.model.study import Envelope
 
-__all__ = ["Response", "evaluate_population", "evaluate_design", "envelope_margins"]
+__all__ = ["Response", "element_extra_outputs", "envelope_margins", "evaluate_design", "evaluate_population"]
 
 #: parameters more than this factor beyond their bounds are outside the numerical domain
 _DOMAIN = 1e6
@@ -265,3 +266,30 @@ def envelope_margins(box_mm: np.ndarray, env: Envelope) -> tuple[np.ndarray, np.
 def evaluate_design(design: Design, x_mm: np.ndarray, *, x_max_mm: float | None = None) -> Response:
     """Evaluate one design (n = 1) with per-element detail; same code path as the search."""
     return evaluate_population(Slots.from_designs([design]), x_mm, x_max_mm=x_max_mm, detail=True)
+
+
+def element_extra_outputs(design: Design, x_mm: np.ndarray) -> dict[str, np.ndarray]:
+    """Kind-specific results of each element along the stroke (``ElementKind.extra_outputs``).
+
+    Parameters
+    ----------
+    design : Design
+    x_mm : ndarray, shape (m,)
+        Stroke points of the mechanism, mm.
+
+    Returns
+    -------
+    dict of str -> ndarray, shape (m,)
+        ``e<j>_<name>`` (j counts the elements from 1, as the force columns of
+        ``springsynth evaluate``): per copy, on the element's own stroke ``x - offset``
+        (clipped at 0). Empty when no kind of the design provides any.
+    """
+    x = np.asarray(x_mm, dtype=float).ravel()
+    out: dict[str, np.ndarray] = {}
+    for j, e in enumerate(design.elements):
+        p = {k: np.array([v]) for k, v in e.values().items()}
+        mat = MaterialArrays.of(design.materials[e.material])
+        u = np.maximum(x - e.offset_mm, 0.0)[None, :]
+        for name, v in get_kind(e.kind).extra_outputs(p, mat, u).items():
+            out[f"e{j + 1}_{name}"] = np.asarray(v, dtype=float)[0]
+    return out

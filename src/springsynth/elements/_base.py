@@ -165,6 +165,14 @@ class ElementKind:
         """Mass of one copy, g, shape (n,) (``u_max`` for kinds whose material in use grows with the stroke)."""
         raise NotImplementedError
 
+    def extra_outputs(self, p: Params, mat: MaterialArrays, u: np.ndarray) -> dict[str, np.ndarray]:
+        """Further kind-specific results along the stroke, each shape (n, m) (default: none).
+
+        Names carry their unit suffix (``parasitic_mm``); ``springsynth evaluate`` shows
+        every one a kind returns. Values are per copy, on the element's own stroke ``u``.
+        """
+        return {}
+
     # ---- search coordinates (optional override) ------------------------------------
     @property
     def search_params(self) -> tuple[Param, ...]:
@@ -217,7 +225,7 @@ class ElementKind:
 _SYMBOLS = {
     "length_mm": "L", "width_mm": "b", "thickness_mm": "t", "rise_mm": "h", "wire_diameter_mm": "d",
     "mean_diameter_mm": "D", "active_coils": "Na", "free_length_mm": "L0", "initial_tension_N": "Fi",
-    "natural_radius_mm": "Rn", "radius_mm": "R",
+    "natural_radius_mm": "Rn", "radius_mm": "R", "notch_radius_mm": "R",
 }
 
 

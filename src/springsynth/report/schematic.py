@@ -113,13 +113,29 @@ def _pad(ax, p, x0, x1, y, h, color, aspect):
                                 hatch="..", lw=1.2))
 
 
+def _notch_stage(ax, p, x0, x1, y, h, color, aspect):
+    """A parallelogram stage: ground bar, two links (drawn deflected) with notch hinges, stage bar."""
+    w = x1 - x0
+    yb, yt, lean = y - 0.32 * h, y + 0.32 * h, 0.08 * w
+    xa, xb = x0 + 0.25 * w, x0 + 0.72 * w
+    ax.plot([x0, xb + 0.04 * w], [yb, yb], color=color, lw=1.6)                   # lead and ground bar
+    ax.plot([xa - 0.04 * w, xb + 0.04 * w], [yb, yb], color=color, lw=3.2, solid_capstyle="butt")
+    ax.plot([xa - 0.04 * w + lean, xb + 0.04 * w + lean], [yt, yt], color=color, lw=3.2, solid_capstyle="butt")
+    ax.plot([xb + 0.04 * w + lean, x1], [yt, yt], color=color, lw=1.6)            # stage bar to the shuttle
+    r = 0.07 * h
+    for xl in (xa, xb):
+        ax.plot([xl, xl + lean], [yb, yt], color=color, lw=2.4, solid_capstyle="butt")
+        for cx, cy in ((xl, yb + r), (xl + lean, yt - r)):
+            ax.add_patch(Ellipse((cx, cy), 2 * r * aspect, 2 * r, fc="white", ec=color, lw=1.2, zorder=5))
+
+
 #: the symbol of each glyph name a kind may declare: ``draw(ax, params, x0, x1, y, h, color, aspect)``
 #: between x0 and x1, centred on y, height h; ``aspect`` is x data units per y data unit of equal
 #: length on paper (keeps circles round)
 GLYPHS = {
     "compression_coil": _compression_coil, "extension_coil": _extension_coil, "guided_blade": _guided_blade,
     "guided_wire": _guided_wire, "cantilever": _cantilever, "column": _column, "clamped_blade": _clamped_blade,
-    "arch": _arch, "ribbon": _ribbon, "sphere": _sphere, "pad": _pad,
+    "arch": _arch, "ribbon": _ribbon, "sphere": _sphere, "pad": _pad, "notch_stage": _notch_stage,
 }
 
 

@@ -45,6 +45,10 @@ elastomer_pad             continuum finite elements (felupe, a general-purpose n
                           library): one eighth of the bonded block, tri-quadratic hexahedra
                           with a mixed u-p-J nearly-incompressible formulation, the material's
                           own Ogden series, faces bonded to rigid plates, displacement control
+notch_parallelogram       plane-stress finite elements of one circular notch hinge (felupe,
+                          9-node quadrilaterals on a mapped mesh following the cut-outs) under a
+                          pure moment; the stage force from its stiffness with the pin-jointed
+                          parallelogram kinematics (:mod:`.notch`)
 ========================  =====================================================================
 
 Any other kind is reported as "not verified: no independent solver for <kind>".

@@ -15,6 +15,8 @@ from scipy.interpolate import CubicSpline
 from springsynth.checks.verify.coils import helical_rate_castigliano, wahl_shear_per_N, winkler_inner_stress_per_N
 from springsynth.checks.verify.elastica import solve_half_span, solve_straight_column, solve_tip_loaded_beam
 from springsynth.checks.verify.hertz import hertz_force_numeric
+from springsynth.checks.verify.notch import LEVEL as NOTCH_LEVEL
+from springsynth.checks.verify.notch import stage_fe
 from springsynth.checks.verify.pad_fe import pad_force_reference
 from springsynth.checks.verify.ribbon import ribbon_plateau_beam
 from springsynth.elements import get_kind
@@ -202,6 +204,15 @@ def _solve_pad(kind_name, p, mat, u):
                    note="stress measure is the nominal strain u/t (kinematic): not compared")
 
 
+def _solve_notch(kind_name, p, mat, u):
+    if mat.hyperelastic:
+        raise NotVerified("notch_parallelogram with a hyperelastic material (the kind marks it infeasible)")
+    F, S = stage_fe(p["length_mm"], p["width_mm"], p["thickness_mm"], p["notch_radius_mm"], mat.E_MPa, mat.nu, u)
+    return Solved(F, S, "plane-stress FE of one hinge (felupe, 9-node quadrilaterals on a mapped mesh following "
+                        f"the cut-outs, level {NOTCH_LEVEL}), pure moment; stage force from pin-jointed kinematics",
+                  note="plane stress: a plate much thicker than the hinge is stiffer (up to 1/(1 - nu^2))")
+
+
 class NotVerified(Exception):
     pass
 
@@ -216,6 +227,7 @@ SOLVERS: dict[str, Callable] = {
     "hertz": _solve_sphere,
     "ribbon_plateau": _solve_ribbon,
     "pad_fe": _solve_pad,
+    "notch_fe": _solve_notch,
 }
 
 
