@@ -56,18 +56,17 @@ from functools import lru_cache
 
 import numpy as np
 
-__all__ = ["LEVEL", "hinge_fe", "stage_fe"]
+__all__ = ["LEVEL", "hinge_fe", "hinge_fe_3d", "stage_fe"]
 
 #: mesh level used by :func:`stage_fe` (see the module's convergence table)
 LEVEL = 3
 
 
-def _mesh(tau: float, level: int):
-    """Quarter hinge of notch radius 1 and neck ``tau``: points (p, 2), quad9 cells (c, 9), node grid."""
+def _columns(tau: float, level: int):
+    """Node columns of the quarter hinge (R = 1, neck ``tau``): x (k,), section height h (k,), rows eta, H."""
     R, t = 1.0, tau
     H = 2.0 * R + t
     per_zeta = 2.0 ** (level - 1)
-    ny = 2**level
     # zeta(phi) = int_0^phi R dphi / (t + 2 R (1 - cos phi)) in closed form (substitute tan(phi/2))
     a = math.sqrt(t * (t + 4.0 * R))
     c = math.sqrt((t + 4.0 * R) / t)
@@ -79,7 +78,12 @@ def _mesh(tau: float, level: int):
     ne = 2**level
     x = np.concatenate((R * np.sin(phi), R + H * np.linspace(0.0, 1.0, 2 * ne + 1)[1:]))
     h = np.concatenate((t + 2.0 * R * (1.0 - np.cos(phi)), np.full(2 * ne, H)))
-    eta = np.linspace(0.0, 1.0, 2 * ny + 1)
+    return x, h, np.linspace(0.0, 1.0, 2 * 2**level + 1), H
+
+
+def _mesh(tau: float, level: int):
+    """Quarter hinge of notch radius 1 and neck ``tau``: points (p, 2), quad9 cells (c, 9), node grid."""
+    x, h, eta, H = _columns(tau, level)
     grid = np.arange(x.size * eta.size).reshape(x.size, eta.size)
     pts = np.stack(np.broadcast_arrays(x[:, None], 0.5 * eta[None, :] * h[:, None]), axis=-1).reshape(-1, 2)
     i, j = np.meshgrid(np.arange(0, x.size - 1, 2), np.arange(0, eta.size - 1, 2), indexing="ij")
@@ -143,6 +147,93 @@ def _hinge_unit(tau: float, nu: float, level: int) -> tuple[float, float]:
     sxy = gxy / (2.0 * (1.0 + nu))
     peak = 0.5 * (sxx + syy) + math.sqrt(0.25 * (sxx - syy) ** 2 + sxy**2)
     return K, peak
+
+
+#: felupe's hexahedron27 node order as (i, j, k) offsets in a 3 x 3 x 3 block of grid nodes
+_HEX27 = [(0, 0, 0), (2, 0, 0), (2, 2, 0), (0, 2, 0), (0, 0, 2), (2, 0, 2), (2, 2, 2), (0, 2, 2), (1, 0, 0),
+          (2, 1, 0), (1, 2, 0), (0, 1, 0), (1, 0, 2), (2, 1, 2), (1, 2, 2), (0, 1, 2), (0, 0, 1), (2, 0, 1),
+          (2, 2, 1), (0, 2, 1), (0, 1, 1), (2, 1, 1), (1, 0, 1), (1, 2, 1), (1, 1, 0), (1, 1, 2), (1, 1, 1)]
+
+
+def _layers(half_width: float, layers: int) -> np.ndarray:
+    """Nodes through the half width: ``layers`` quadratic elements shrinking by 0.7 toward the free face."""
+    w = 0.7 ** np.arange(layers)
+    zc = np.r_[0.0, np.cumsum(w / w.sum())] * half_width
+    z = np.empty(2 * layers + 1)
+    z[0::2], z[1::2] = zc, 0.5 * (zc[:-1] + zc[1:])
+    return z
+
+
+@lru_cache(maxsize=64)
+def _hinge_3d_unit(tau: float, width: float, nu: float, level: int, layers: int) -> float:
+    """K / (E b) of a hinge with R = 1, neck ``tau`` and plate width ``width``, three-dimensional."""
+    import felupe as fem
+    from scipy.sparse.linalg import spsolve
+
+    x, h, eta, H = _columns(tau, level)
+    z = _layers(0.5 * width, layers)
+    P = np.empty((x.size, eta.size, z.size, 3))
+    P[..., 0] = x[:, None, None]
+    P[..., 1] = (0.5 * eta[None, :] * h[:, None])[:, :, None]
+    P[..., 2] = z[None, None, :]
+    grid = np.arange(x.size * eta.size * z.size).reshape(P.shape[:3])
+    i, j, k = (a.ravel() for a in np.meshgrid(np.arange(0, x.size - 1, 2), np.arange(0, eta.size - 1, 2),
+                                              np.arange(0, z.size - 1, 2), indexing="ij"))
+    cells = np.stack([grid[i + a, j + b, k + c] for a, b, c in _HEX27], axis=1)
+    pts = P.reshape(-1, 3)
+    field = fem.Field(fem.RegionTriQuadraticHexahedron(fem.Mesh(pts, cells, cell_type="hexahedron27")), dim=3)
+    fields = fem.FieldContainer([field])
+    solid = fem.SolidBody(fem.LinearElastic(E=1.0, nu=nu), fields)
+    X, Y, Z = (np.abs(v) < 1e-12 for v in pts.T)
+    bounds = {
+        "sym_x": fem.Boundary(field, mask=X, skip=(0, 1, 1)),
+        "anti_y": fem.Boundary(field, mask=Y, skip=(0, 1, 1)),
+        "mid_z": fem.Boundary(field, mask=Z, skip=(1, 1, 0)),
+        "origin": fem.Boundary(field, mask=X & Y & Z, skip=(1, 0, 1)),
+    }
+    I_H = H**3 / 12.0
+    face = grid[-1]
+    dz = np.diff(z[0::2])
+    wz = np.zeros(z.size)
+    for e, d in enumerate(dz):                       # a uniform load on quadratic edges: d (1, 4, 1) / 6
+        wz[2 * e:2 * e + 3] += d * np.array([1.0, 4.0, 1.0]) / 6.0
+    F = np.outer(_face_forces(P[-1, :, 0, 1], I_H), wz)      # sigma_xx = M y / I_H, M = 1 per unit width
+    _, dof1 = fem.dof.partition(fields, bounds)
+    A = solid.assemble.matrix().tocsr()
+    rhs = np.zeros(A.shape[0])
+    rhs[3 * face.ravel()] = F.ravel()
+    sol = np.zeros(A.shape[0])
+    sol[dof1] = spsolve(A[dof1][:, dof1], rhs[dof1])
+    ux = sol.reshape(-1, 3)[face, 0]
+    theta_face = float(np.sum(F * ux)) / float(np.sum(F * P[-1, :, :, 1]))
+    return 1.0 / (2.0 * (theta_face - H / I_H))
+
+
+def hinge_fe_3d(t: float, R: float, b: float, *, nu: float = 0.3, level: int = 2, layers: int = 4) -> float:
+    """Stiffness of a circular notch hinge of plate width ``b`` by three-dimensional finite elements.
+
+    The plane-stress model of :func:`hinge_fe` extruded through the plate: 27-node
+    hexahedra, a quarter in the plane and half the width (mid-plane symmetry ``u_z = 0``),
+    ``layers`` elements through the half width, finer toward the free faces; the same pure
+    moment (``sigma_xx = M y / I_H`` on the end face, uniform across the width) and the same
+    subtraction of the extensions' beam rotation. It measures how far a wide plate, which
+    restrains the neck's anticlastic strain, stiffens the hinge over plane stress.
+
+    Parameters
+    ----------
+    t, R, b : float
+        Neck thickness, notch radius and plate width, mm.
+    nu : float
+        Poisson's ratio.
+    level, layers : int
+        In-plane mesh level (as :func:`hinge_fe`) and elements through the half width.
+
+    Returns
+    -------
+    float
+        ``K / (E b)``, mm^2.
+    """
+    return _hinge_3d_unit(float(t) / float(R), float(b) / float(R), float(nu), int(level), int(layers)) * R * R
 
 
 def hinge_fe(t: float, R: float, *, nu: float = 0.3, level: int = LEVEL) -> tuple[float, float]:
