@@ -145,14 +145,24 @@ def stage_force(K, L, x):
     x : ndarray, shape (n, m)
         Stage travel, mm (either sign: the force is odd in x).
     """
-    th = link_rotation(x, L)
-    return 4.0 * K * th / (L * np.cos(th))
+    s = np.asarray(np.clip(x / L, -_SIN_CLIP, _SIN_CLIP))   # sin(theta); one temporary, then in place
+    th = np.arcsin(s)
+    np.multiply(s, s, out=s)
+    np.subtract(1.0, s, out=s)
+    np.sqrt(s, out=s)                                  # cos(theta)
+    th /= s
+    th *= 4.0 * K / L
+    return th
 
 
 def parasitic_travel(L, x):
-    """Travel of the stage toward the ground, ``L (1 - cos theta)``, mm; even in ``x``."""
-    th = link_rotation(x, L)
-    return L * 2.0 * np.sin(0.5 * th) ** 2
+    """Travel of the stage toward the ground, ``L (1 - cos theta)``, mm; even in ``x``.
+
+    Written ``L s^2 / (1 + cos theta)`` with ``s = sin theta = x / L`` (no cancellation at small x).
+    """
+    s = np.clip(x / L, -_SIN_CLIP, _SIN_CLIP)
+    s2 = s * s
+    return L * s2 / (1.0 + np.sqrt(1.0 - s2))
 
 
 class NotchParallelogram(ElementKind):
