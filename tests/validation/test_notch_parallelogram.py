@@ -231,7 +231,7 @@ def test_mass_is_the_plate_with_its_cut_outs():
     # the plate outline of the module notes, rasterised on a fine grid here (independent of the formula)
     L, t, R, b = 30.0, 0.3, 5.0, 10.0
     H = 2 * R + t
-    d = 0.5 * L
+    d = max(L, 3 * H)              # link centre spacing of the layout
     h = 0.02
     xs = np.arange(-H / 2 - 1, d + H / 2 + 1, h) + h / 2
     ys = np.arange(-R - H - 1, L + R + H + 1, h) + h / 2

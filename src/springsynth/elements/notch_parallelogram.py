@@ -68,10 +68,12 @@ Three-dimensional finite elements of the hinge (``hinge_fe_3d`` in
 ``40 t`` (at ``t/R = 0.1``: +1.4, +3.5, +5.3, +7.1 %). For wide plates this partly
 cancels the beam integral's excess stiffness (``0.40 t/R``) against plane stress.
 
-Box (plate outline): along the stroke the two links at a centre spacing ``L/2`` plus
-one link width, ``L/2 + H``, plus the travel; across, ``L + 2 R`` between the outer
-ends of the hinges plus a ground and a stage bar of depth ``H`` each; and the plate
-thickness ``b``. Mass: the plate material of the two bars, ``2 (L/2 + H) H``, and of the
+Box (plate outline): along the stroke the two links at a centre spacing
+``d = max(L, 3 H)`` (a square parallelogram, the links at least a link width apart; the
+layout ``springsynth export`` draws) plus one link width, ``d + H``, plus the travel;
+across, ``L + 2 R`` between the outer ends of the hinges plus a ground and a stage bar
+of depth ``H`` each; and the plate thickness ``b``. Mass: the plate material of the two
+bars, ``2 (d + H) H``, and of the
 two links, each ``(L - 2 R) H`` plus two hinge zones of ``2 R H - pi R^2``, times ``b``.
 
 References: J.M. Paros & L. Weisbord, "How to design flexure hinges", Machine Design
@@ -98,8 +100,8 @@ ROTATION_MAX = math.radians(10.0)
 LENGTH_RATIO_MIN = 4.0
 #: largest share of the strain energy in the links' own bending
 LINK_ENERGY_MAX = 0.01
-#: centre spacing of the two links / L (packing choice of the plate outline)
-LINK_SPACING = 0.5
+#: centre spacing of the two links: max(L, LINK_SPACING_WIDTHS * H) (the layout of the plate outline)
+LINK_SPACING_WIDTHS = 3.0
 #: stroke / L is clipped here (60 deg) so that far outside the range forces stay finite
 _SIN_CLIP = math.sin(math.radians(60.0))
 
@@ -197,12 +199,13 @@ class NotchParallelogram(ElementKind):
     def box(self, p, u_max):
         t, R, L = p["thickness_mm"], p["notch_radius_mm"], p["length_mm"]
         H = 2.0 * R + t
-        return LINK_SPACING * L + H + u_max, L + 2.0 * R + 2.0 * H, p["width_mm"].astype(float, copy=True)
+        d = np.maximum(L, LINK_SPACING_WIDTHS * H)
+        return d + H + u_max, L + 2.0 * R + 2.0 * H, p["width_mm"].astype(float, copy=True)
 
     def mass(self, p, mat, u_max=None):
         t, R, L = p["thickness_mm"], p["notch_radius_mm"], p["length_mm"]
         H = 2.0 * R + t
-        bars = 2.0 * (LINK_SPACING * L + H) * H
+        bars = 2.0 * (np.maximum(L, LINK_SPACING_WIDTHS * H) + H) * H
         links = 2.0 * ((L - 2.0 * R) * H + 2.0 * (2.0 * R * H - math.pi * R * R))
         return (bars + links) * p["width_mm"] * mat.rho * DENSITY_TO_G_PER_MM3
 
