@@ -69,12 +69,12 @@ Three-dimensional finite elements of the hinge (``hinge_fe_3d`` in
 cancels the beam integral's excess stiffness (``0.40 t/R``) against plane stress.
 
 Box (plate outline): along the stroke the two links at a centre spacing
-``d = max(L, 3 H)`` (a square parallelogram, the links at least a link width apart; the
-layout ``springsynth export`` draws) plus one link width, ``d + H``, plus the travel;
-across, ``L + 2 R`` between the outer ends of the hinges plus a ground and a stage bar
-of depth ``H`` each; and the plate thickness ``b``. Mass: the plate material of the two
-bars, ``2 (d + H) H``, and of the
-two links, each ``(L - 2 R) H`` plus two hinge zones of ``2 R H - pi R^2``, times ``b``.
+``d = max(L, 3 H)`` (a square parallelogram, the links at least two link widths apart;
+the layout ``springsynth export`` draws) plus one link width, ``d + H``, plus the
+travel; across, ``L + 2 R`` between the outer ends of the hinges plus a ground and a
+stage bar of depth ``H`` each; and the plate thickness ``b``. Mass: the plate material
+of the two bars, ``2 (d + H) H``, and of the two links, each ``(L - 2 R) H`` plus two
+hinge zones of ``2 R H - pi R^2``, times ``b``.
 
 References: J.M. Paros & L. Weisbord, "How to design flexure hinges", Machine Design
 37 (27), 151-156, 1965 [memory]; N. Lobontiu, Compliant Mechanisms: Design of Flexure
