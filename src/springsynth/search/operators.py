@@ -137,9 +137,11 @@ class _Mutation(Mutation):
 
 
 def _pm(X, xl, xu, eta, rng):
-    """Polynomial mutation (Deb & Goyal 1996), vectorised, bounded."""
+    """Polynomial mutation (Deb & Goyal 1996), vectorised, bounded; a gene whose bounds coincide
+    (one kind allowed, ``max_count = 1``) stays where it is."""
     d = xu - xl
-    d1, d2 = (X - xl) / d, (xu - X) / d
+    span = np.where(d > 0, d, 1.0)
+    d1, d2 = (X - xl) / span, (xu - X) / span
     u = rng.random(X.shape)
     p = 1.0 / (eta + 1.0)
     lo = 2 * u + (1 - 2 * u) * (1 - d1) ** (eta + 1)
