@@ -214,9 +214,6 @@ def _independent_stress_ratio(design, stroke):
     return peak
 
 
-#: feasible designs re-checked so far (the last test makes sure the check was not vacuous)
-CHECKED: list[str] = []
-
 CASES = [
     (("blade_guided", "helical_compression"), ("stainless_17_7ph", "music_wire"), 1,
      np.linspace(0, 5, 11), lambda x: 2.0 + 1.5 * x),
@@ -237,6 +234,7 @@ def test_feasible_designs_recompute_feasible(tmp_path, kinds, materials, seed, x
     res = synthesize(st)
     stroke, lim, env = st.target.stroke_mm, st.limits, st.envelope
     feasible = [i for i in range(len(res.designs)) if np.all(res.constraints[i] <= 0)]
+    assert feasible, "the search found no feasible design: the check below would be vacuous"
     for i in feasible:
         d = res.designs[i]
         r = evaluate_design(d, st.target.x_mm, x_max_mm=stroke)
@@ -257,8 +255,3 @@ def test_feasible_designs_recompute_feasible(tmp_path, kinds, materials, seed, x
         assert g_len[0] <= 0 and g_cross[0] <= 0
         assert r.validity_worst[0] <= 0
         assert r.min_thickness_mm[0] >= lim.min_thickness_mm
-        CHECKED.append(d.topology())
-
-
-def test_recomputation_was_not_vacuous():
-    assert len(CHECKED) >= 3, CHECKED

@@ -189,16 +189,32 @@ def test_verification_columns_are_shown_when_present_and_omitted_otherwise(run_c
     assert not any(h.startswith("e1_") for h in page.headers)
 
 
-def test_pareto_plot_is_pure_and_labels_the_knee_and_extremes(tmp_path):
+def test_pareto_plot_is_pure_and_labels_the_knee_and_extremes(tmp_path, monkeypatch):
+    import matplotlib.figure
+    import matplotlib.pyplot as plt
+
+    # a plot function writes nothing and opens no window: any file would land in the (empty)
+    # working folder, any savefig or show is recorded
+    calls = []
+    monkeypatch.chdir(tmp_path)
+    monkeypatch.setattr(matplotlib.figure.Figure, "savefig", lambda self, *a, **k: calls.append("savefig"))
+    monkeypatch.setattr(plt, "show", lambda *a, **k: calls.append("show"))
     F = np.array([[0.1, 0.9, 900.0], [5.0, 0.2, 4000.0], [19.0, 0.8, 300.0], [18.0, 0.05, 15000.0], [9.0, 0.4, 50.0]])
     feas = np.array([True, True, True, True, False])
     ids = [f"D{i + 1:02d}" for i in range(len(F))]
     reps = representatives(ids, F, feas)
-    assert reps == {"lowest error": 0, "knee": knee_index(F[:4]), "smallest": 2, "lowest stress": 3}
+    # by hand, over the four feasible rows: each objective scaled to [0, 1] by its range
+    # (18.9, 0.85, 14 700), distances to the ideal point D01 1.001, D02 0.402, D03 1.333,
+    # D04 1.377 -> the knee is D02; lowest error D01, smallest D03, lowest stress D04
+    # (D05, infeasible, would be smallest and is not eligible)
+    assert reps == {"lowest error": 0, "knee": 1, "smallest": 2, "lowest stress": 3}
+    assert knee_index(F[:4]) == 1
     fig = plot_pareto(ids, F, feas, stress_limit=0.8)
     texts = [t.get_text() for ax in fig.axes for t in ax.texts]
     assert any(t.startswith("D01") and "lowest error" in t for t in texts)
-    assert any("knee" in t for t in texts)
+    assert any(t.startswith("D02") and "knee" in t for t in texts)
+    assert not any(t.startswith("D05") for t in texts)
     assert all(ax.get_xlabel() and ax.get_ylabel() for ax in fig.axes)
     assert any(ax.get_yscale() == "log" or ax.get_xscale() == "log" for ax in fig.axes)  # size spans decades
-    assert list(tmp_path.iterdir()) == []
+    plt.close(fig)
+    assert calls == [] and list(tmp_path.iterdir()) == []
