@@ -72,7 +72,8 @@ def run_dir(tmp_path_factory):
     out = d / "run"
     r = CliRunner().invoke(app, ["run", str(write_study(d, "lin.csv")), "--out", str(out), "--population", "20",
                                  "--generations", "5"])
-    assert r.exit_code in (0, 1), r.output
+    assert r.exit_code == 0, r.output            # a straight line the blades and coils can follow
+    assert pd.read_csv(out / "pareto.csv").feasible.any()
     return out
 
 
