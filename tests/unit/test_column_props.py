@@ -103,7 +103,8 @@ def test_force_rises_with_thickness():
 
 
 def test_straight_plateau_is_nearly_flat():
-    # elastica: P/P_cr = 1.053 at Delta = 0.1 L (physics §7), so within 5.5 % of P_cr
+    # pinned elastica (Timoshenko & Gere 1961 sec. 2.7): P/P_cr = 1.053 at Delta = 0.1 L [computed from the
+    # elliptic integrals], so within 5.5 % of P_cr
     p = valid_population()
     p["rise_mm"][:] = 0.0
     F = COLUMN.force(p, MAT, 0.1 * p["length_mm"][:, None])[:, 0]

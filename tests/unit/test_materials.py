@@ -1,7 +1,11 @@
 """The materials catalogue, inline materials and their population arrays.
 
-Check values: /work/shared/DESIGN.md (required ids), /work/shared/reference/physics.md
-sections 1, 11 and 12 (cited as "physics §n").
+Check values: the design notes (required ids); Budynas & Nisbett, *Shigley's Mechanical
+Engineering Design*, 9th ed., ch. 10 (Tables 10-4, 10-5, 10-6); R.W. Ogden, Proc. R. Soc.
+Lond. A 326:565-584, 1972 (three-term fit to Treloar's rubber data); the incompressible
+uniaxial laws (neo-Hookean, Mooney-Rivlin, Ogden: common practice). Where a value is
+recalled rather than read, the comment says "memory"; "computed" values were worked out
+from the formula named beside them.
 """
 
 from __future__ import annotations
@@ -24,7 +28,8 @@ ELASTOMERS = ("tpu", "silicone", "natural_rubber")
 
 
 def ogden_nominal(mu, alpha, lam):
-    """Uniaxial nominal stress of an incompressible Ogden solid (physics §11)."""
+    """Uniaxial nominal stress of an incompressible Ogden solid (Ogden 1972):
+    P = sum mu_p (lam^(alpha_p - 1) - lam^(-alpha_p/2 - 1))."""
     return sum(m * (lam ** (a - 1.0) - lam ** (-a / 2.0 - 1.0)) for m, a in zip(mu, alpha))
 
 
@@ -76,18 +81,23 @@ def test_forms_as_specified():
 
 def test_spring_wires():
     cat = catalogue()
-    # Shigley Table 10-4 as quoted in physics §12: music wire A = 2211 MPa mm^m, m = 0.145
+    # Shigley Table 10-4, music wire: A = 2211 MPa mm^m, m = 0.145 (A = 201 kpsi in^m and m = 0.145 seen in a
+    # Shigley solutions-manual excerpt; 2211 is the book's SI value)
     mw = cat["music_wire"]
     assert mw.sut_A_MPa == pytest.approx(2211) and mw.sut_m == pytest.approx(0.145)
-    assert mw.sut_A_MPa * 1.0 ** -mw.sut_m * mw.torsion_share == pytest.approx(995, abs=0.5)  # physics §12
+    # static allowable at d = 1 mm: 0.45 x 2211 = 995 MPa [computed]
+    assert mw.sut_A_MPa * 1.0 ** -mw.sut_m * mw.torsion_share == pytest.approx(995, abs=0.5)
     cs = cat["chrome_silicon"]
-    assert cs.sut_A_MPa == pytest.approx(1974) and cs.sut_m == pytest.approx(0.108)  # physics §12
-    # Shigley Table 10-6 (physics §1): 0.45 music wire, 0.50 H&T incl. Cr-Si, 0.35 austenitic / non-ferrous
+    # Shigley Table 10-4, Cr-Si A401: A = 1974 MPa mm^m, m = 0.108 [memory]
+    assert cs.sut_A_MPa == pytest.approx(1974) and cs.sut_m == pytest.approx(0.108)
+    # Shigley Table 10-6 (after Sines), set not removed: 0.45 music wire (seen in a solutions-manual excerpt),
+    # 0.50 hardened & tempered incl. Cr-Si, 0.35 austenitic stainless / non-ferrous [memory]
     assert mw.torsion_share == 0.45
     assert cs.torsion_share == 0.50
     for mid in ("stainless_302", "beryllium_copper", "phosphor_bronze"):
         assert cat[mid].torsion_share == 0.35, mid
-    # physics pitfall 8: tabulated G, not E/(2(1+nu)) (Shigley Table 10-5: 81.7 GPa, 0.8-1.6 mm)
+    # Shigley Table 10-5 (seen): G = 81.7 GPa for 0.8-1.6 mm music wire, the tabulated value; spring-wire E and G
+    # are not isotropic-consistent (E/(2G) - 1 = 0.23 for fine music wire), so G is not E/(2(1+nu))
     assert mw.G_MPa == pytest.approx(81_700)
     assert mw.G_MPa != pytest.approx(mw.E_MPa / (2 * (1 + mw.nu)), rel=0.05)
     for m in cat.values():
@@ -98,12 +108,13 @@ def test_spring_wires():
 
 
 def test_natural_rubber_initial_shear():
-    # physics §11: Ogden 1972 in MPa gives initial mu = 0.4143 MPa
+    # Ogden 1972, mu = (6.3, 0.012, -0.1) kg/cm^2 = (0.6178, 0.001177, -0.009807) MPa, alpha = (1.3, 5, -2)
+    # [memory; the same set is used by a public FE test deck]: initial mu = sum(mu_p alpha_p)/2 = 0.4143 MPa [computed]
     assert catalogue()["natural_rubber"].initial_shear_MPa == pytest.approx(0.4143, abs=5e-5)
 
 
 def test_natural_rubber_vectors():
-    # physics §11 formula test vectors, Ogden-1972 column (4 decimals)
+    # nominal stress of the Ogden 1972 set at lambda = 1.5, 2, 3 [computed from the formula above, 4 decimals]
     m = catalogue()["natural_rubber"]
     for lam, P in ((1.5, 0.3939), (2.0, 0.5911), (3.0, 0.8629)):
         assert ogden_nominal(m.ogden_mu_MPa, m.ogden_alpha, lam) == pytest.approx(P, abs=6e-5)
@@ -149,7 +160,8 @@ def test_inline_mooney_rivlin_maps_to_ogden():
                                              "density_kg_m3": 1100, "strain_limit": 1.0}, where="study.toml")
     assert m.hyperelastic and "elastomer" in m.forms
     assert m.initial_shear_MPa == pytest.approx(2 * (0.16 + 0.02), rel=1e-12)   # mu = 2(C10 + C01)
-    # physics §11 vectors for C10 = 0.16, C01 = 0.02 (4 decimals)
+    # Mooney-Rivlin P = 2 (C10 + C01/lam)(lam - lam^-2) (common practice) for C10 = 0.16, C01 = 0.02
+    # [computed, 4 decimals]
     for lam, P in ((1.5, 0.3659), (2.0, 0.5950), (3.0, 0.9630)):
         closed = 2 * (0.16 + 0.02 / lam) * (lam - lam**-2)
         assert closed == pytest.approx(P, abs=6e-5)
@@ -159,7 +171,7 @@ def test_inline_mooney_rivlin_maps_to_ogden():
 def test_inline_neo_hookean():
     m = material_from_mapping("lab_rubber", {"law": "neo_hookean", "mu_MPa": 0.4, "density_kg_m3": 1100,
                                              "strain_limit": 0.5}, where="study.toml")
-    # physics §11 neo-Hookean column, mu = 0.4
+    # neo-Hookean P = mu (lam - lam^-2) (common practice), mu = 0.4 [computed, 4 decimals]
     for lam, P in ((1.5, 0.4222), (2.0, 0.7000), (3.0, 1.1556)):
         assert ogden_nominal(m.ogden_mu_MPa, m.ogden_alpha, lam) == pytest.approx(P, abs=6e-5)
 

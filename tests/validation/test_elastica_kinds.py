@@ -107,9 +107,10 @@ def test_cantilever_small_deflection_limit():
     assert s[0] == pytest.approx(6 * F[0] * L / (b * t**2), rel=1e-5)
 
 
-def test_cantilever_physics_sheet_case():
-    # physics.md sec. 3 [computed]: E = 200 GPa, b = 10, t = 0.5, L = 50:
-    # linear k = 0.5 N/mm and sigma_max = 120 MPa per N of tip load. Small stroke, 1e-4 tol.
+def test_cantilever_hand_case():
+    # k = 3 E I / L^3 and sigma_max = 6 P L / (b t^2) (Roark, cantilever with end load; common practice)
+    # for E = 200 GPa, b = 10, t = 0.5, L = 50: k = 0.5 N/mm, 120 MPa per N of tip load [computed].
+    # Small stroke, 1e-4 tol.
     p, m = blade(50.0, 10.0, 0.5), mat_of()
     u = 0.002
     F, s = at(get_kind("blade_cantilever"), p, m, [u])
@@ -134,10 +135,11 @@ def test_guided_small_deflection_limit(name):
     assert s[0] == pytest.approx(6 * E * I * u / L**2 * c / I, rel=1e-5)
 
 
-def test_fixed_guided_physics_sheet_case():
-    # physics.md sec. 4 [computed; common practice, Awtar, Slocum & Sevincer, J. Mech. Des.
-    # 129:625-639, 2007 (memory)]: E = 200 GPa, b = 10, t = 0.3, L = 30 ->
-    # k = 2.000 N/mm per blade; at delta = 1 mm sigma_max = 3 E t delta / L^2 = 200.0 MPa.
+def test_fixed_guided_hand_case():
+    # k = 12 E I / L^3, sigma_max = 3 E t delta / L^2 [common practice; the beam-constraint model's
+    # transverse coefficient 12, Awtar, Slocum & Sevincer, J. Mech. Des. 129:625-639, 2007 (memory)].
+    # E = 200 GPa, b = 10, t = 0.3, L = 30 -> k = 2.000 N/mm per blade; at delta = 1 mm sigma_max = 200.0 MPa
+    # [computed].
     # Linear values; at delta/L = 1/30 large deflection adds < 0.1 %, tolerance 0.3 %.
     kind, p, m = get_kind("blade_guided"), blade(30.0, 10.0, 0.3), mat_of()
     F, s = at(kind, p, m, [1e-3, 1.0])
@@ -151,8 +153,8 @@ def test_fixed_guided_physics_sheet_case():
 @pytest.mark.parametrize("alpha, xi_published", [(1.0, 0.302), (10.0, 0.811)])
 def test_bisshopp_drucker_tip_deflection_exact_solution(alpha, xi_published):
     # Bisshopp & Drucker, Q. Appl. Math. 3(3):272-275, 1945: delta/L = 0.302 at
-    # alpha = P L^2/(E I) = 1 and 0.811 at alpha = 10 [memory, corroborated by the
-    # elliptic integrals, physics.md sec. 3]. Tolerance: half a unit of the third
+    # alpha = P L^2/(E I) = 1 and 0.811 at alpha = 10 [memory, corroborated by their
+    # elliptic-integral solution, 0.30172 and 0.81061 computed]. Tolerance: half a unit of the third
     # decimal plus 0.0005.
     theta0 = brentq(lambda th: _elastica.cantilever_exact(np.array([th]))[0][0] - alpha, 1e-6, 1.5)
     _, xi, _ = _elastica.cantilever_exact(np.array([theta0]))
@@ -169,17 +171,18 @@ def test_bisshopp_drucker_kernel_at_alpha_1():
     assert u / L == pytest.approx(0.302, rel=REQUIRED_FORCE_RTOL)
 
 
-# Exact table of physics.md sec. 3 [computed there; agrees with an independent shooting
-# solution to 5 decimals]: (alpha, delta/L, a/L). Rows with delta/L <= 0.7.
-PHYSICS_TABLE = [
+# Bisshopp & Drucker (1945) elliptic-integral solution, tabulated for this project [computed from
+# sqrt(alpha) = K(k) - F(phi1, k), delta/L = 1 - (2/sqrt(alpha)) [E(k) - E(phi1, k)], a/L = sqrt(2 sin theta0 / alpha);
+# agrees with an independent shooting solution to 5 decimals]: (alpha, delta/L, a/L). Rows with delta/L <= 0.7.
+BISSHOPP_DRUCKER_TABLE = [
     (0.25, 0.08275, 0.99588), (0.5, 0.16214, 0.98408), (1.0, 0.30172, 0.94357),
     (1.5, 0.41098, 0.89206), (2.0, 0.49346, 0.83936), (3.0, 0.60325, 0.74558),
     (4.0, 0.66996, 0.67106),
 ]
 
 
-@pytest.mark.parametrize("alpha, xi, a_over_L", PHYSICS_TABLE)
-def test_cantilever_against_physics_sheet_table(alpha, xi, a_over_L):
+@pytest.mark.parametrize("alpha, xi, a_over_L", BISSHOPP_DRUCKER_TABLE)
+def test_cantilever_against_bisshopp_drucker_table(alpha, xi, a_over_L):
     # force alpha E I / L^2 at u = xi L; root stress 6 P a / (b t^2). Tolerance 2 %
     # (requirement); the tables agree much closer.
     kind, L, b, t = get_kind("blade_cantilever"), 50.0, 10.0, 0.5
@@ -252,7 +255,7 @@ def test_guided_vs_bvp_over_declared_range(name, guided_reference):
 def test_guided_end_moments_equal(guided_reference):
     # Antisymmetry: the S-shaped blade carries equal and opposite moments at its ends,
     # so its largest curvature equals that of a half-length cantilever under the same P
-    # (physics.md sec. 4: M = 6 E I delta / L^2 at both ends, small delta).
+    # (M = 6 E I delta / L^2 at both ends at small delta; Roark, fixed-guided beam, common practice).
     alpha_g = guided_reference[:5, 0]
     half = elastica_bvp(alpha_g / 4.0, guided=False)       # P (L/2)^2 / (E I)
     # curvature * (L/2) of the half = curvature * L of the whole / 2
@@ -265,7 +268,7 @@ def test_cantilever_against_howell_prbm():
     # Howell, Compliant Mechanisms, Wiley 2001, ch. 5 [memory]: vertical tip force,
     # gamma = 0.8517, K_Theta = 2.67617; u = gamma L sin(Theta),
     # P = K_Theta E I Theta / (L^2 cos Theta). Loose cross-check: 5 % (the PRBM is 4.7 %
-    # stiff at small Theta, physics.md sec. 3 pitfall 2), for Theta where u <= 0.7 L.
+    # stiff at small Theta: K_Theta -> 3 gamma = 2.55 there [computed]), for Theta where u <= 0.7 L.
     gamma, K_theta = 0.8517, 2.67617
     kind, L, b, t = get_kind("blade_cantilever"), 50.0, 10.0, 0.5
     EI = 200_000.0 * b * t**3 / 12
@@ -277,7 +280,7 @@ def test_cantilever_against_howell_prbm():
 
 
 def test_guided_against_howell_prbm():
-    # Howell 2001 [memory], fixed-guided PRBM (physics.md sec. 4): two pivots,
+    # Howell 2001 [memory], fixed-guided PRBM: two pivots,
     # delta = gamma L sin(Theta), F = 4 K_Theta E I Theta / (L^2 cos Theta) with
     # gamma = 0.8517, K_Theta = 2.67617. 5 %, for delta <= 0.5 L.
     gamma, K_theta = 0.8517, 2.67617

@@ -11,9 +11,11 @@ unstretched arc length s; end forces (H, V) as parameters:
 
 with theta = 0 at the clamp and at mid-span (symmetry), x(L/2) = L/2, w(L/2) = delta,
 solved by ``scipy.integrate.solve_bvp`` with continuation in delta; F = 2 V. The
-uniaxial nominal stresses P(lam) are written out here from the physics sheet sec. 11
-(neo-Hookean, Mooney-Rivlin, Ogden) with the constants typed in, not taken from the
-module; their inverse is a dense cubic spline. Bending keeps the small-strain modulus
+uniaxial nominal stresses P(lam) are written out here (incompressible neo-Hookean
+``mu (lam - lam^-2)``, Mooney-Rivlin ``2 (C10 + C01/lam)(lam - lam^-2)``, Ogden
+``sum mu_p (lam^(alpha_p - 1) - lam^(-alpha_p/2 - 1))``: common practice; R.W. Ogden,
+Proc. R. Soc. Lond. A 326:565-584, 1972) with the constants typed in, not taken from the
+module (natural rubber: Ogden's 1972 three-term fit to Treloar's data [memory]); their inverse is a dense cubic spline. Bending keeps the small-strain modulus
 E of the catalogue (the same constitutive assumption as the module).
 """
 
@@ -35,7 +37,7 @@ BLADE = get_kind("blade_clamped")
 ROOT = Path(__file__).resolve().parents[2]
 
 
-# ----------------------------------------------------------------------------- laws (physics sheet sec. 11)
+# ----------------------------------------------------------------------------- laws (see the module docstring)
 
 def _mooney_rivlin(c10, c01):
     return lambda lam: 2.0 * (c10 + c01 / lam) * (lam - lam**-2)
@@ -210,8 +212,8 @@ def test_linear_material_keeps_moderate_rotation_scope():
 
 
 def _moderate_rotation_closure(law, E, L, t, delta):
-    """Exact root of the moderate-rotation uniform-tension closure (physics sheet sec. 5
-    with the law): N = E I (4a/L)^2 = A P(1 + c(a) delta^2/L^2), F = 192 E I delta/L^3 R(a)."""
+    """Exact root of the moderate-rotation uniform-tension closure (the clamped-beam tension
+    solution of test_clamped_arch.py, with the law): N = E I (4a/L)^2 = A P(1 + c(a) delta^2/L^2), F = 192 E I delta/L^3 R(a)."""
     from scipy.optimize import brentq
 
     A, I = t, t**3 / 12.0

@@ -1,8 +1,25 @@
 """Validation of the ribbon, contact_sphere and elastomer_pad kinds against published values.
 
-Every check value comes from /work/shared/reference/physics.md (the project's sourced
-reference sheet); the section, its primary source and the tolerance stand beside each.
-Tolerances cover the rounding of the printed value unless a wider one is stated.
+Sources, named beside each check value with its tolerance (tolerances cover the rounding
+of the printed value unless a wider one is stated):
+
+* Ribbon (prestressed constant-force spring): plateau ``F = E b t^3 / (26.4 R_n^2)`` and
+  bending stress ``E t / (2 R_n)``, spring handbooks [common practice; the formula and the
+  factor 26.4 "to compensate for cross curvature" were seen on secondary engineering and
+  spring-maker pages, the handbook attribution is from memory]; usage rules (drum 10-20 %
+  over the natural diameter, full force after about 1.25 drum diameters) from the same
+  pages.
+* Hertz contact: K.L. Johnson, *Contact Mechanics*, Cambridge UP 1985, ch. 4 [memory; exact
+  equation numbers not checked].
+* Rubber: L.R.G. Treloar, Trans. Faraday Soc. 40:59, 1944 (uniaxial data as digitised in
+  the felupe library's hyperelasticity example, which converts kgf/cm^2 with x 0.0980665);
+  R.W. Ogden, Proc. R. Soc. Lond. A 326:565-584, 1972 (three-term fit, [memory]; the same
+  set is used by a public FE test deck).
+* Bonded blocks: A.N. Gent & P.B. Lindley, "The compression of bonded rubber blocks",
+  Proc. Inst. Mech. Eng. 173:111-122, 1959 [memory for the citation; E_a = E (1 + beta S^2)
+  with beta = 2 seen in a secondary source, Strojniski vestnik 60 (2014) 506-511].
+
+Values marked "computed" were worked out from the formula named beside them.
 """
 
 from __future__ import annotations
@@ -35,9 +52,9 @@ RIBBON = get_kind("ribbon")
 SPHERE = get_kind("contact_sphere")
 PAD = get_kind("elastomer_pad")
 
-#: kgf/cm^2 -> MPa (physics.md sec. 11, the conversion used with Treloar's data)
+#: kgf/cm^2 -> MPa (standard gravity 9.80665 m/s^2, the conversion used with Treloar's data)
 KGF_CM2 = 0.0980665
-#: Ogden (1972) three-term fit to Treloar's data: mu in kg/cm^2, alpha (physics.md sec. 11)
+#: Ogden (1972) three-term fit to Treloar's data: mu in kg/cm^2, alpha [memory]
 OGDEN_1972 = {"mu_MPa": [6.3 * KGF_CM2, 0.012 * KGF_CM2, -0.1 * KGF_CM2], "alpha": [1.3, 5.0, -2.0]}
 
 
@@ -55,12 +72,12 @@ def arrays(**values):
     return {k: np.atleast_1d(np.asarray(v, dtype=float)) for k, v in values.items()}
 
 
-# --------------------------------------------------------------------------- ribbon, sec. 9
+# --------------------------------------------------------------------------- ribbon
 
 @pytest.mark.parametrize(
     "E, b, t, R_n, F_check, S_check",
     [
-        # physics.md sec. 9 check [computed from the handbook formula]: 301 SS, R_n/t = 100
+        # handbook plateau E b t^3/(26.4 R_n^2) [computed]: 301 SS, R_n/t = 100
         (193000.0, 10.0, 0.1, 10.0, 0.7311, 965.0),
         # same strip with R_n = 5
         (193000.0, 10.0, 0.1, 5.0, 2.9242, 1930.0),
@@ -81,21 +98,22 @@ def test_ribbon_handbook_plateau(E, b, t, R_n, F_check, S_check):
 
 
 def test_ribbon_full_force_after_one_and_a_quarter_drum_diameters():
-    # physics.md sec. 9 usage rules: drum 10-20 % over the natural diameter, full force after
+    # handbook usage rules (seen on maker pages): drum 10-20 % over the natural diameter, full force after
     # about 1.25 drum diameters. Tolerance 1 % of the plateau ("about" - the ramp shape is ours).
     R_n = 10.0
     p = arrays(width_mm=10.0, thickness_mm=0.1, natural_radius_mm=R_n)
     mat = MaterialArrays.of(linear_material(193000.0, 0.3))
-    F_p = 0.7311  # sec. 9 check value
+    F_p = 0.7311  # the handbook plateau of this strip (above)
     u = np.array([[1.25 * 1.10 * 2 * R_n, 1.25 * 1.20 * 2 * R_n]])
     assert RIBBON.force(p, mat, u) == pytest.approx(np.full_like(u, F_p), rel=0.01)
 
 
-# --------------------------------------------------------------------------- Hertz, sec. 10
+# --------------------------------------------------------------------------- Hertz
 
 def test_hertz_sphere_on_flat_check():
-    # physics.md sec. 10 check [computed; Johnson 1985 ch. 4]: steel/steel E = 210 GPa, nu = 0.3,
-    # ball R = 5 on a flat, F = 100 N -> a = 0.14812 mm, delta = 4.3882 um, p0 = 2176.1 MPa
+    # Johnson 1985 ch. 4 [memory]: F = (4/3) E* R^1/2 delta^3/2, a = (3 F R/(4 E*))^1/3, p0 = 3F/(2 pi a^2);
+    # steel/steel E = 210 GPa, nu = 0.3, ball R = 5 on a flat, F = 100 N -> a = 0.14812 mm,
+    # delta = 4.3882 um, p0 = 2176.1 MPa [computed]
     p = arrays(radius_mm=5.0)
     mat = MaterialArrays.of(linear_material(210000.0, 0.3))
     u = np.array([[4.3882e-3]])
@@ -108,10 +126,10 @@ def test_hertz_sphere_on_flat_check():
     assert a == pytest.approx(0.14812, rel=1e-4)
 
 
-# --------------------------------------------------------------------------- elastomers, sec. 11
+# --------------------------------------------------------------------------- elastomers
 
-# Treloar (1944) uniaxial data, as tabulated in physics.md sec. 11 (lambda, P in kgf/cm^2),
-# with the Ogden-1972 prediction computed there (MPa), up to lambda = 7.05.
+# Treloar (1944) uniaxial data as digitised in felupe's examples/ex14_hyperelasticity.py (lambda, P in
+# kgf/cm^2), with the Ogden-1972 prediction [computed] (MPa), up to lambda = 7.05.
 TRELOAR = [
     (1.020, 0.26, 0.0243), (1.125, 1.37, 0.1354), (1.240, 2.30, 0.2327), (1.390, 3.23, 0.3333),
     (1.585, 4.16, 0.4350), (1.900, 5.10, 0.5583), (2.180, 6.00, 0.6451), (2.420, 6.90, 0.7111),
@@ -127,8 +145,9 @@ def _uniaxial(material, lam):
 
 
 def test_ogden_1972_reproduces_treloar_loosely():
-    # physics.md sec. 11 / pitfall 5: the published fit matches Treloar's data to about
-    # +-12 % for lambda <= 7 (worst +11.6 % at lambda = 1.9). Tolerance 12 %.
+    # the published fit matches Treloar's data to about +-12 % for lambda <= 7 (worst +11.6 % at
+    # lambda = 1.9) [computed]; fits of this data set are delicate and non-unique (Ogden et al.,
+    # Comput. Mech. 34:484-502, 2004). Tolerance 12 %.
     lam = np.array([r[0] for r in TRELOAR])
     P_data = np.array([r[1] for r in TRELOAR]) * KGF_CM2
     P = _uniaxial(rubber("ogden", **OGDEN_1972), lam)
@@ -136,7 +155,7 @@ def test_ogden_1972_reproduces_treloar_loosely():
 
 
 def test_ogden_1972_formula_matches_reference_column():
-    # physics.md sec. 11 table, column "Ogden-1972 P (MPa) [computed]", printed to 4 decimals.
+    # the Ogden-1972 column of the table above [computed from Ogden's formula], printed to 4 decimals.
     lam = np.array([r[0] for r in TRELOAR])
     P_ref = np.array([r[2] for r in TRELOAR])
     P = _uniaxial(rubber("ogden", **OGDEN_1972), lam)
@@ -146,7 +165,7 @@ def test_ogden_1972_formula_matches_reference_column():
 @pytest.mark.parametrize(
     "law, constants, expected",
     [
-        # physics.md sec. 11 formula test vectors [computed], lambda = 1.5, 2, 3, MPa to 4 decimals
+        # incompressible uniaxial laws (common practice) [computed], lambda = 1.5, 2, 3, MPa to 4 decimals
         ("neo_hookean", {"mu_MPa": 0.4}, (0.4222, 0.7000, 1.1556)),
         ("mooney_rivlin", {"C10_MPa": 0.16, "C01_MPa": 0.02}, (0.3659, 0.5950, 0.9630)),
         ("ogden", OGDEN_1972, (0.3939, 0.5911, 0.8629)),
@@ -203,7 +222,7 @@ def test_incompressible_pressure_coefficients_of_rectangles():
     # beta = 4 k1 (1 + b/a)^2 (derived in the elastomer_pad module): 16 x 0.141 = 2.256 for a
     # square from the torsion table above (tolerance: its rounding, 16 x 0.5e-3), and 4/3 for a
     # long strip, i.e. E_a = 4 G S^2 (common practice [memory]). Gent & Lindley round to
-    # beta = 2 for square and moderately rectangular blocks (physics.md sec. 11).
+    # beta = 2 for square and moderately rectangular blocks (Gent & Lindley 1959 [memory]).
     beta = lambda r: 4.0 * torsion_coefficient(r) * (1.0 + 1.0 / r) ** 2  # noqa: E731
     assert beta(1.0) == pytest.approx(16.0 * 0.141, abs=8e-3)
     assert beta(1e6) == pytest.approx(4.0 / 3.0, rel=1e-5)
@@ -239,13 +258,13 @@ def test_simple_shear_secant_modulus(law, mu, alpha):
 
 
 def test_shape_factor_of_square_block():
-    # physics.md sec. 11: square a x a x h has S = a / (4 h); a = 50, h = 10 -> 1.25
+    # shape factor = loaded area / force-free area (Gent & Lindley 1959 [memory]): a x a x h has S = a / (4 h)
     assert shape_factor(50.0, 50.0, 10.0) == pytest.approx(1.25, rel=1e-12)
 
 
 @pytest.mark.parametrize("S", [0.5, 1.0, 1.75, 2.5])
 def test_gent_lindley_apparent_modulus_small_strain(S):
-    # physics.md sec. 11: E_a = E (1 + 2 S^2) for bonded square blocks (Gent & Lindley 1959),
+    # E_a = E (1 + 2 S^2) for bonded square blocks (Gent & Lindley 1959 [memory]),
     # a design rule with beta rounded down from the pressure method's 2.25. The kernel, fitted
     # to finite elements, lies above it: FE gives 3.354 E at S = 1 (+11.8 %, mesh study in
     # springsynth.checks.verify.pad_force_fe). Natural rubber law (Ogden 1972), nu = 0.4999,
@@ -257,7 +276,7 @@ def test_gent_lindley_apparent_modulus_small_strain(S):
     du = 1e-6 * h
     Ea = PAD.force(p, mat, np.array([[du]]))[0, 0] / du * h / (a * a)
     E0 = 3.0 * 0.5 * sum(m * al for m, al in zip(OGDEN_1972["mu_MPa"], OGDEN_1972["alpha"]))
-    # bulk compliance in series (physics.md sec. 11), B = E/(3(1 - 2 nu))
+    # bulk compliance in series, 1/E_a' = 1/E_a + 1/B (Gent & Lindley 1959 [memory]), B = E/(3(1 - 2 nu))
     gl = 1.0 / (1.0 / (E0 * (1.0 + 2.0 * S * S)) + 3.0 * (1.0 - 2.0 * 0.4999) / E0)
     assert 0.0 <= Ea / gl - 1.0 <= 0.15
 
