@@ -61,3 +61,27 @@ def test_packing_model():
     assert g_len[0] < 0 and g_cross[0] <= 0  # fits after a quarter turn (20 wide, 30 high)
     g_len, g_cross = envelope_margins(r.box_mm, Envelope(4.0, 25.0, 25.0))
     assert g_len[0] > 0 and g_cross[0] > 0
+
+
+def test_size_and_mass_by_hand():
+    """Packing model of ``assembly/evaluate.py`` and each kind's box and mass, worked by hand.
+
+    Two guided 17-7PH blades L = 30, b = 10, t = 0.3 at offset 0, and a music-wire coil
+    d = 1, D = 8, Na = 8, L0 = 30 engaging at 1 mm; stroke 4 mm. Boxes: blade (u_max + t,
+    L, b) = (4.3, 30, 10); coil (L0, D + d, D + d) = (30, 9, 9). Length = max along = 30;
+    copies side by side on their thinner cross extent: 2 x 10 + 9 = 29 wide; height =
+    max(30, 9) = 30 -> 26 100 mm^3. Mass: blades 7810 kg/m^3 x 2 x 30 x 10 x 0.3 mm^3 =
+    1.4058 g; coil 7860 kg/m^3 x pi/4 x 1^2 x pi x 8 x (8 + 2 end coils, squared & ground)
+    = 1.5515 g; together 2.9573 g.
+    """
+    from springsynth.assembly.design import Element
+
+    coil = Element("helical_compression", "music_wire", 1, 1.0,
+                   {"wire_diameter_mm": 1.0, "mean_diameter_mm": 8.0, "active_coils": 8.0, "free_length_mm": 30.0})
+    r = evaluate_design(design(blade(count=2), coil), X)
+    assert tuple(r.box_mm[0]) == pytest.approx((30.0, 29.0, 30.0), rel=1e-12)
+    assert r.size_mm3[0] == pytest.approx(26_100.0, rel=1e-12)
+    blades = 7810e-6 * 2 * 30 * 10 * 0.3
+    wire = 7860e-6 * np.pi / 4 * 1.0**2 * np.pi * 8.0 * (8 + 2)
+    assert blades == pytest.approx(1.4058, abs=5e-5) and wire == pytest.approx(1.5515, abs=5e-5)
+    assert r.mass_g[0] == pytest.approx(blades + wire, rel=1e-12)

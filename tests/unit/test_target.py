@@ -86,3 +86,33 @@ def test_curve_error_definition():
     t = target_from_arrays([0, 1, 2, 3], [0, 1, 2, 4])
     f = np.array([[0, 1, 2, 4], [1, 2, 3, 5]], float)
     assert np.allclose(t.curve_error_pct(f), [0.0, 25.0])
+
+
+# 1 um = 1e-3 mm, 1 m = 1000 mm, 1 mN = 1e-3 N (SI prefixes); 1 kgf = 9.80665 N and 1 gf = 9.80665e-3 N
+# (standard gravity 9.80665 m/s^2, 3rd CGPM 1901; NIST SP 811, 2008, Appendix B); 1 daN = 10 N
+@pytest.mark.parametrize("head, x_factor, f_factor", [
+    ("displacement [µm],force [mN],tolerance [mN]", 1e-3, 1e-3),     # micro sign U+00B5, as keyboards type it
+    ("displacement [μm],force_mN,tolerance_mN", 1e-3, 1e-3),         # Greek mu U+03BC
+    ("displacement_um,force [gf],tolerance [gf]", 1e-3, 9.80665e-3),
+    ("displacement_m,force [kgf],tolerance [kgf]", 1000.0, 9.80665),
+    ("displacement [mm],force_kgf,tolerance_kgf", 1.0, 9.80665),
+    ("displacement [cm],force [daN],tolerance [daN]", 10.0, 10.0),
+])
+def test_more_units(tmp_path, head, x_factor, f_factor):
+    t = load_target(_w(tmp_path, f"{head}\n0,0,0.5\n1,2,0.5\n2,4.5,0.5\n"))
+    assert t.x_mm == pytest.approx(np.array([0.0, 1.0, 2.0]) * x_factor, rel=1e-12)
+    assert t.force_N == pytest.approx(np.array([0.0, 2.0, 4.5]) * f_factor, rel=1e-12)
+    assert t.force_hi_N - t.force_N == pytest.approx(np.full(3, 0.5 * f_factor), rel=1e-12)
+
+
+def test_weighted_curve_error_by_hand(tmp_path):
+    # DESIGN.md: 100 RMS_w(F - F_t) / max|F_t| with RMS_w = sqrt(sum w r^2 / sum w). Target 0, 1, 2, 4 N
+    # with weights 1, 3, 1, 0 against a curve 0, 1.5, 2, 9: residuals 0, 0.5, 0, 5 (the last point
+    # weightless) -> sqrt(3 x 0.25 / 5) = 0.387298 N -> 9.68246 % of 4 N; unweighted it would be
+    # sqrt((0.25 + 25)/4) / 4 = 62.81 %.
+    t = load_target(_w(tmp_path, "displacement_mm,force_N,weight\n0,0,1\n1,1,3\n2,2,1\n3,4,0\n"))
+    f = np.array([[0.0, 1.5, 2.0, 9.0], [0.0, 1.0, 2.0, 4.0]])
+    assert t.curve_error_pct(f) == pytest.approx([100 * np.sqrt(0.75 / 5) / 4, 0.0], rel=1e-12)
+    assert t.curve_error_pct(f)[0] == pytest.approx(9.68246, abs=5e-6)
+    flat = target_from_arrays([0, 1, 2, 3], [0, 1, 2, 4])
+    assert flat.curve_error_pct(f[:1])[0] == pytest.approx(62.81, abs=5e-3)
