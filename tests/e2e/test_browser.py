@@ -18,8 +18,9 @@ from tests.conftest import write_study, write_target
 
 CHROMIUM = Path("/usr/bin/chromium")
 
-pytestmark = pytest.mark.skipif(not CHROMIUM.exists(),
-                                reason="needs /usr/bin/chromium (Debian package `chromium`) for a headless browser")
+pytestmark = [pytest.mark.slow,
+              pytest.mark.skipif(not CHROMIUM.exists(),
+                                 reason="needs /usr/bin/chromium (Debian package `chromium`) for a headless browser")]
 
 
 def _chromium(tmp_path: Path, *args: str, timeout: float = 120) -> subprocess.CompletedProcess:

@@ -22,6 +22,8 @@ from tests.conftest import write_study, write_target
 runner = CliRunner()
 GENS = 14
 
+pytestmark = pytest.mark.slow          # seeded searches and a subprocess run
+
 
 @pytest.fixture(scope="module")
 def study(tmp_path_factory):

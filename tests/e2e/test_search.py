@@ -18,6 +18,8 @@ from tests.conftest import write_study, write_target
 
 runner = CliRunner()
 
+pytestmark = pytest.mark.slow          # seeded searches
+
 
 def _known_design() -> Design:
     """A two-element mechanism: two guided blades, plus a coil spring engaging after a 2 mm gap."""

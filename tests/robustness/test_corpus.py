@@ -92,6 +92,7 @@ def test_index_lists_every_corpus_file():
     assert len(bad) >= 40
 
 
+@pytest.mark.slow
 @pytest.mark.parametrize("rel", sorted(INDEX))
 def test_corpus_file(rel, results):
     spec = INDEX[rel]
@@ -116,6 +117,7 @@ def test_corpus_file(rel, results):
 
 # ------------------------------------------------------------------- faults made at test time
 
+@pytest.mark.slow
 def test_unreadable_target_file(tmp_path):
     """A target the user may not read: one line naming the file and why."""
     if hasattr(os, "geteuid") and os.geteuid() == 0:

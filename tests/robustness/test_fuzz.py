@@ -113,6 +113,7 @@ def csv_bytes(draw):
     return data
 
 
+@pytest.mark.slow
 @settings(FUZZ, max_examples=examples(2600))
 @given(csv_bytes())
 def test_target_reader_raises_only_input_error(work, data):
@@ -223,6 +224,7 @@ def mutated(draw, base):
     return doc
 
 
+@pytest.mark.slow
 @settings(FUZZ, max_examples=examples(2400))
 @given(mutated(STUDY))
 def test_study_mapping_raises_only_input_error(work, doc):
@@ -235,6 +237,7 @@ def test_study_mapping_raises_only_input_error(work, doc):
     assert s.search.population >= 4 and s.envelope.length_mm > 0 and s.limits.stress_ratio > 0
 
 
+@pytest.mark.slow
 @settings(FUZZ, max_examples=examples(3000))
 @given(mutated(DESIGN))
 def test_design_mapping_raises_only_input_error(doc):
@@ -288,6 +291,7 @@ def mutated_text(draw):
     return raw
 
 
+@pytest.mark.slow
 @settings(FUZZ, max_examples=examples(1200))
 @given(mutated_text())
 def test_toml_text_raises_only_input_error(work, raw):
@@ -336,6 +340,7 @@ def populations(draw):
     return Slots(np.zeros((n, 1), np.intp), material, count, offset, params, (kind,), mats), np.linspace(0, x_end, m)
 
 
+@pytest.mark.slow
 @settings(FUZZ, max_examples=examples(800))
 @given(populations())
 def test_evaluator_never_returns_non_finite_as_finite(pop):
@@ -393,6 +398,7 @@ def test_arch_kernel_absurd_stroke():
     assert not np.isnan(f[0, 1]) and f[0, 1] >= far > 0
 
 
+@pytest.mark.slow
 def test_fuzz_case_count():
     """The suite above draws at least 10,000 cases (with the default profile)."""
     if os.environ.get("SPRINGSYNTH_FUZZ_SCALE", "1") != "1" or len(COUNTS) < 5:
@@ -402,6 +408,7 @@ def test_fuzz_case_count():
 
 # ------------------------------------------------------------------------ command-line round trips
 
+@pytest.mark.slow
 @pytest.mark.parametrize("data", [
     b"displacement_mm,force [2**9**9*N]\n0,1\n1,2\n2,3\n",
     b"\xff\xfe\x00d\x00i",

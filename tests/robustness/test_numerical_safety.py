@@ -224,6 +224,7 @@ CASES = [
 ]
 
 
+@pytest.mark.slow
 @pytest.mark.parametrize("kinds, materials, seed, x, law", CASES)
 def test_feasible_designs_recompute_feasible(tmp_path, kinds, materials, seed, x, law):
     from springsynth.io.study_toml import load_study

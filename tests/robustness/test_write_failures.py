@@ -13,6 +13,8 @@ from tests.conftest import write_study, write_target
 
 runner = CliRunner()
 
+pytestmark = pytest.mark.slow          # two runs per case
+
 
 @pytest.fixture
 def study(tmp_path):

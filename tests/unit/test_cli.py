@@ -4,6 +4,7 @@ import subprocess
 import sys
 
 import pandas as pd
+import pytest
 from typer.testing import CliRunner
 
 from springsynth.cli import app
@@ -62,6 +63,7 @@ def test_check_accepts_each_file_type(tmp_path, linear_study):
     assert "target with 13 points" in runner.invoke(app, ["check", str(linear_study.parent / "lin.csv")]).output
 
 
+@pytest.mark.slow
 def test_bad_input_exits_2_with_one_line_and_no_traceback(tmp_path):
     bad = tmp_path / "bad.toml"
     bad.write_text('[[element]]\nkind = "blade_guided"\nmaterial = "music_wier"\nlength_mm = 1\nwidth_mm = 1\nthickness_mm = 0.1\n')

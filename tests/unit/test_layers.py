@@ -12,6 +12,7 @@ tolerances, verified error of the top designs); the report renders what io reads
 from __future__ import annotations
 
 import ast
+import functools
 from pathlib import Path
 
 import pytest
@@ -47,7 +48,9 @@ def _layer(module: str) -> int | None:
     return LAYERS.index(top)
 
 
+@functools.lru_cache(maxsize=1)
 def _modules() -> dict[str, Path]:
+    """Every module of the package by name (read once: the checks below ask for it per import)."""
     return {_module_name(p): p for p in SRC.rglob("*.py")}
 
 

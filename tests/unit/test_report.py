@@ -102,6 +102,7 @@ def run_copy(run_dir, tmp_path):
     return dst
 
 
+@pytest.mark.slow
 def test_run_writes_all_figures_and_the_report(run_dir):
     table = pd.read_csv(run_dir / "pareto.csv")
     assert len(table) >= 1
@@ -112,6 +113,7 @@ def test_run_writes_all_figures_and_the_report(run_dir):
         assert png.read_bytes()[:8] == b"\x89PNG\r\n\x1a\n", png
 
 
+@pytest.mark.slow
 def test_report_is_self_contained(run_dir):
     text = (run_dir / "report.html").read_text(encoding="utf-8")
     page = _parse(run_dir / "report.html")
@@ -128,6 +130,7 @@ def test_report_is_self_contained(run_dir):
     assert text.count("<script") <= 1
 
 
+@pytest.mark.slow
 def test_table_has_one_row_per_design_and_the_expected_columns(run_dir):
     table = pd.read_csv(run_dir / "pareto.csv")
     page = _parse(run_dir / "report.html")
@@ -140,6 +143,7 @@ def test_table_has_one_row_per_design_and_the_expected_columns(run_dir):
         assert f'id="card-{i}"' in text
 
 
+@pytest.mark.slow
 def test_report_carries_cautions_summary_and_model_notes(run_dir):
     text = (run_dir / "report.html").read_text(encoding="utf-8")
     assert html.escape(CAUTION) in text
@@ -150,6 +154,7 @@ def test_report_carries_cautions_summary_and_model_notes(run_dir):
     assert "valid:" in text and "Model validity and sources" in text
 
 
+@pytest.mark.slow
 def test_report_command_rebuilds_from_the_folder_alone(run_copy):
     made = [run_copy / f for f in ("pareto.png", "curves.png", "convergence.png", "report.html")]
     made += list((run_copy / "designs").glob("*.png"))
@@ -169,6 +174,7 @@ def test_report_command_rejects_a_folder_that_is_not_a_run(tmp_path):
     assert "run.json is missing" in r.output
 
 
+@pytest.mark.slow
 def test_verification_columns_are_shown_when_present_and_omitted_otherwise(run_copy):
     # a run verifies its top designs; a table without the column gives a report without it
     table = pd.read_csv(run_copy / "pareto.csv")

@@ -125,6 +125,7 @@ def _tension_reference(x, L=1.0, t=0.01, E=1.0, b=1.0):
     return np.array(out)
 
 
+@pytest.mark.slow
 @pytest.mark.filterwarnings("ignore::scipy.integrate.IntegrationWarning")
 def test_blade_against_exact_tension_solution_to_6t():
     # reference computed here (brentq + quadrature); requirement <= 3 % up to >= 5 t
@@ -181,6 +182,7 @@ def _elastica_force(L, t, deltas, E=1.0, b=1.0):
     return np.array(out)
 
 
+@pytest.mark.slow
 def test_blade_against_finite_rotation_elastica_within_declared_range():
     # reference computed here: extensible elastica, L/t = 100, delta/t up to 8 = delta/L 0.08
     # (the declared moderate-rotation limit); requirement <= 3 %
@@ -279,6 +281,7 @@ def _arch_curve(Q, deltas, l=40.0, b=5.0, t=0.2):
     return f / (STEEL.E_MPa * b * t**3 / 12 * h / l**3)
 
 
+@pytest.mark.slow
 @pytest.mark.parametrize("Q", [3.0, 4.0, 10.0])
 def test_arch_against_energy_minimisation_galerkin(Q):
     # reference computed here (30 symmetric modes, BFGS); requirement <= 3 % of the
@@ -335,6 +338,7 @@ def test_arch_single_mode_closed_form():
     assert top / F1_top == pytest.approx(743.2 / 763.2, rel=5e-3)
 
 
+@pytest.mark.slow
 def test_arch_bistability_threshold():
     # Qiu et al. 2004: force crosses zero iff Q > sqrt(16/3) = 2.3094 (single mode);
     # computed here with the module's Galerkin: the multimode threshold is the same
@@ -423,6 +427,7 @@ def test_arch_snap_columns_invert_snap_deltas():
     np.testing.assert_allclose(s, np.broadcast_to(np.arange(ds.shape[1]), s.shape), atol=1e-4)
 
 
+@pytest.mark.slow
 def test_arch_table_force_and_stress_match_direct_galerkin_through_the_snap():
     # Reference: the project's own many-mode solution, springsynth.elements.arch.galerkin
     # (40 odd modes + the 4 pi mode), solved directly at each point here; the shipped table

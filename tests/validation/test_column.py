@@ -274,6 +274,7 @@ CURVED = [
     (40.0, 5.0, 0.3, 12.0, CLAMPED),
 ]
 
+@pytest.mark.slow
 @pytest.mark.parametrize("L, b, t, rise, ends", CURVED)
 def test_curved_column_matches_exact_elastica(L, b, t, rise, ends):
     """Within the declared range (u <= 0.3 L) the force is within 3 % of the exact solution."""
@@ -286,6 +287,7 @@ def test_curved_column_matches_exact_elastica(L, b, t, rise, ends):
     assert dev <= 0.03
 
 
+@pytest.mark.slow
 @pytest.mark.parametrize("ends", [PINNED, CLAMPED])
 def test_curved_column_lateral_envelope_matches_exact(ends):
     """The box's lateral extent 2 w_max + t follows the exact mid-span deflection to 3 %."""
@@ -298,6 +300,7 @@ def test_curved_column_lateral_envelope_matches_exact(ends):
     np.testing.assert_allclose(width, b)
 
 
+@pytest.mark.slow
 def test_stress_is_axial_plus_bending_at_largest_moment():
     """sigma = P/A + 6 M/(b t^2) with M = P w_max (pinned) and P w_max/2 (clamped)."""
     L, b, t, rise = 50.0, 10.0, 0.2, 2.0
@@ -309,6 +312,7 @@ def test_stress_is_axial_plus_bending_at_largest_moment():
         assert s == pytest.approx(sigma_ref, rel=0.03)
 
 
+@pytest.mark.slow
 def test_table_slice_regenerates():
     """The shipped table matches a fresh exact solution at a grid column (alpha = 0.1)."""
     from springsynth.elements._buckling import build_table, load_table

@@ -193,6 +193,7 @@ def test_cantilever_against_bisshopp_drucker_table(alpha, xi, a_over_L):
     assert s[0] == pytest.approx(6 * P * a_over_L * L / (b * t**2), rel=REQUIRED_FORCE_RTOL)
 
 
+@pytest.mark.slow
 def test_exact_solution_against_bvp(cantilever_reference):
     # The elliptic-integral forms (Bisshopp & Drucker 1945) against collocation of the
     # same elastica: 1e-5 (both are exact up to solver tolerance).
@@ -218,6 +219,7 @@ def _max_deviation(kind, p, mat, L, ref, EI_over_L2, stress_per_curv, xi_max):
     return dF, dS
 
 
+@pytest.mark.slow
 def test_cantilever_vs_bvp_over_declared_range(cantilever_reference):
     kind = get_kind("blade_cantilever")
     xi_max = kind.extra["stroke_limit"]
@@ -232,6 +234,7 @@ def test_cantilever_vs_bvp_over_declared_range(cantilever_reference):
     assert dF <= 1e-3 and dS <= 1e-3  # documented fit accuracy is far inside the requirement
 
 
+@pytest.mark.slow
 @pytest.mark.parametrize("name", ["blade_guided", "wire_guided"])
 def test_guided_vs_bvp_over_declared_range(name, guided_reference):
     # Reference solves the full guided beam directly (theta = 0 at both ends), which
@@ -252,6 +255,7 @@ def test_guided_vs_bvp_over_declared_range(name, guided_reference):
     assert dF <= 1e-3 and dS <= 1e-3
 
 
+@pytest.mark.slow
 def test_guided_end_moments_equal(guided_reference):
     # Antisymmetry: the S-shaped blade carries equal and opposite moments at its ends,
     # so its largest curvature equals that of a half-length cantilever under the same P

@@ -134,6 +134,7 @@ def test_declared_range():
     assert bc_mod.SLENDERNESS_MIN == 20.0
 
 
+@pytest.mark.slow
 @pytest.mark.parametrize("mid, slenderness", [
     ("tpu", 20.0), ("tpu", 50.0), ("tpu", 100.0), ("tpu", 200.0),
     ("natural_rubber", 20.0), ("natural_rubber", 50.0), ("natural_rubber", 100.0), ("natural_rubber", 200.0),
@@ -156,6 +157,7 @@ def test_force_against_hyperelastic_elastica(mid, slenderness):
     assert dev[R_POINTS >= 0.1].max() <= 0.006
 
 
+@pytest.mark.slow
 @pytest.mark.parametrize("mid, slenderness", [("tpu", 20.0), ("natural_rubber", 100.0)])
 def test_peak_fibre_strain_against_elastica(mid, slenderness):
     # the strain margin and the stress use the peak fibre nominal strain at the clamp; the
@@ -184,6 +186,7 @@ def test_peak_fibre_strain_against_elastica(mid, slenderness):
     assert g == pytest.approx(strain[-1] / mat.strain_limit - 1.0, rel=1e-9)
 
 
+@pytest.mark.slow
 def test_neo_hookean_strip_beyond_moderate_rotation():
     # the neo-Hookean strip of test_clamped_arch (mu = 2 MPa, L = 20, t = 0.5, L/t = 40) at
     # delta/L = 0.1..0.3: the moderate-rotation closure overestimates the elastica by 3-25 %,
@@ -243,6 +246,7 @@ def test_moderate_rotation_behaviour_kept_up_to_008(mid):
         np.testing.assert_allclose(F, ref, rtol=2e-4)
 
 
+@pytest.mark.slow
 def test_showcase_elastomer_blade_cancellation_figure():
     # studies/elastomer-blade.design.toml: natural rubber strip L 30, b 8, t 0.5 pressed to
     # 13.5 mm (delta/L = 0.45). The figures quoted in its comment block, measured here against

@@ -313,6 +313,7 @@ def test_pad_within_3_percent_of_finite_elements_over_declared_range():
     assert len(rows) > 300 and worst <= 0.03
 
 
+@pytest.mark.slow
 def test_fe_table_regenerates():
     # The stored level-3 forces come from springsynth.checks.verify.pad_force_fe: one case re-solved
     # (natural rubber 20 x 20 x 10, S = 0.5, first two strains of the table). Same code,
