@@ -32,8 +32,9 @@ Delta and their axial strain is a quadratic ``P(Delta)`` independent of Q (40 mo
 Delta_b1 <= Delta_b2 (:func:`snap_strokes`; 0.132 and 1.942 for Q -> infinity) and
 a2 rises as sqrt(Delta - Delta_b1) after the first and falls as sqrt(Delta_b2 - Delta)
 before the second. With 40 odd modes the function reproduces the normalised peak forces
-of the physics sheet sec. 8 (F_top 743.2 / F_bot -368.9 at Q = 10, 653.3 / -279.0 at
-Q = 4) and the published multimode values ~740 / ~-370 (Qiu et al. 2004, eqs. 43-44).
+of an independent 40-mode Galerkin expansion computed for this project (F_top 743.2 /
+F_bot -368.9 at Q = 10, 653.3 / -279.0 at Q = 4) and the published multimode values
+~740 / ~-370 (Qiu et al. 2004, eqs. 43-44).
 
 Bistability: the force crosses zero iff Q > sqrt(16/3) = 2.3094, the same threshold as
 Qiu's single-mode model: a zero-force equilibrium has F = 0, which makes every mode
@@ -83,7 +84,7 @@ minimum of the lowest point of the Galerkin shape), so ``along = h band(Q, u_max
 across: l and b. Clamps and shuttle belong to the frame and are not included.
 
 References: J. Qiu, J.H. Lang & A.H. Slocum, "A curved-beam bistable mechanism",
-J. Microelectromech. Syst. 13(2):137-146, 2004; physics reference sheet sec. 8;
+J. Microelectromech. Syst. 13(2):137-146, 2004 (bibliographic data from memory);
 W.C. Young & R.G. Budynas, Roark's Formulas for Stress and Strain (straight limit).
 """
 
@@ -435,7 +436,8 @@ KIND = Arch(
     sources=(
         "J. Qiu, J.H. Lang & A.H. Slocum, A curved-beam bistable mechanism, J. Microelectromech. Syst. "
         "13(2):137-146, 2004",
-        "multimode Galerkin solution (physics reference sheet sec. 8: F_top 743.2, F_bot -368.9 at Q = 10)",
+        "multimode Galerkin solution computed for this project (F_top 743.2, F_bot -368.9 E I h/l^3 at Q = 10; "
+        "Qiu et al. quote ~740 / ~370, eqs. 43-44)",
     ),
     stroke_note="u = travel of the centre shuttle from the as-made position towards and through the clamp line",
     monotonic_stress=False,

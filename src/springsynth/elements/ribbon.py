@@ -2,7 +2,9 @@
 
 Notes
 -----
-Plateau force and bending stress (spring handbooks, common practice; physics.md sec. 9):
+Plateau force and bending stress (spring handbooks, common practice; the factor 26.4 "to
+compensate for cross curvature" was seen on secondary engineering and spring-maker pages,
+the handbook attribution is from memory):
 
     F_p = E b t^3 / (26.4 R_n^2),        S = E t / (2 R_n)
 
@@ -11,7 +13,7 @@ coil. Pure beam theory with the drum radius equal to R_n gives E b t^3/(24 R_n^2
 handbook factor 26.4 allows for the cross curvature of a wide strip, so the formula is
 trusted only for wide strips (b/t >= 10 here).
 
-Mounting (usage rules of the handbooks, physics.md sec. 9): the coil sits on a drum of
+Mounting (usage rules of the handbooks, as reproduced on makers' pages): the coil sits on a drum of
 diameter D_d = 1.15 * 2 R_n (the middle of the recommended 10-20 % oversize), at least
 1.5 wraps stay on the drum at full extension, and full force develops after about
 1.25 drum diameters of extension.
@@ -45,7 +47,7 @@ import numpy as np
 
 from springsynth.elements._base import DENSITY_TO_G_PER_MM3, ElementKind, Param
 
-#: handbook factor for the plateau force F = E b t^3 / (26.4 R_n^2) (physics.md sec. 9)
+#: handbook factor for the plateau force F = E b t^3 / (26.4 R_n^2) (spring handbooks, common practice)
 HANDBOOK_FACTOR = 26.4
 #: drum diameter / natural diameter (handbooks recommend 1.10-1.20; the middle is taken)
 DRUM_RATIO = 1.15
