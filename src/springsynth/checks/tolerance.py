@@ -268,7 +268,7 @@ def robust_error(study, slots: Slots, n_samples: int = 32, percentile: float = 9
     Every design is evaluated with the same ``n_samples`` perturbations (seeded, so that
     the objective is deterministic across generations), all ``n * n_samples`` rows in one
     :func:`evaluate_population` call; returns the ``percentile`` of their curve errors
-    (DESIGN.md definition, %). Used for the curve-error objective when
+    (``100 RMS_w(F - F_target) / max|F_target|``, %, :meth:`Target.curve_error_pct`). Used for the curve-error objective when
     ``[search] robust = true``.
 
     Measured (tests/benchmarks/bench_robust.py, linear spring with preload, +-4 % band,
@@ -391,6 +391,13 @@ def tolerance_analysis(design: Design, x_mm: np.ndarray, *, target=None, n_sampl
     Returns
     -------
     ToleranceResult
+
+    Notes
+    -----
+    One :func:`evaluate_population` call evaluates the N samples, then the rows of
+    :func:`_sensitivity_rows` (+-h for every quantity, then the nominal design);
+    :func:`_sensitivity_table` ranks the quantities and :func:`_sample_table` lists the
+    samples.
     """
     import pandas as pd
 
@@ -405,8 +412,28 @@ def tolerance_analysis(design: Design, x_mm: np.ndarray, *, target=None, n_sampl
     rng = np.random.default_rng(seed)
     z = np.clip(rng.standard_normal((n_samples, S, P + 2)), -SIGMAS_PER_TOLERANCE, SIGMAS_PER_TOLERANCE)
     quants = _quantities(design, base, sig)
+    zs_p, zs_o, zs_e, steps = _sensitivity_rows(quants, S, P)
+    zp = np.concatenate([z[:, :, :P], zs_p])
+    zo = np.concatenate([z[:, :, P], zs_o])
+    ze = np.concatenate([z[:, :, P + 1], zs_e])
+    pert = _perturb(base, sig, zp, zo, ze)
+    r = evaluate_population(pert, x, x_max_mm=float(x.max()))      # one call: N samples + sensitivity rows
+    F_all = r.force_N
+    F = F_all[:n_samples]
+    F0 = F_all[-1]
+    sens_df = _sensitivity_table(quants, F_all[n_samples:], steps)
+    cols, err, inb, share = _sample_table(quants, z, F, r.stress_ratio[:n_samples], x, target)
+    p05, p50, p95 = np.percentile(F, [5.0, 50.0, 95.0], axis=0)
+    return ToleranceResult(design.name, x, F0, p05, p50, p95, F, r.stress_ratio[:n_samples], err, inb, share,
+                           pd.DataFrame(cols), sens_df, process)
 
-    # sensitivity rows: +-h (relative 1e-3 of the value; offsets +-1 sigma) for every quantity, then nominal
+
+def _sensitivity_rows(quants, S: int, P: int):
+    """Perturbations (in sigmas) of the sensitivity rows: ``+h`` and ``-h`` for every quantity, then nominal.
+
+    ``h`` is a relative 1e-3 of the value (offsets: 1 sigma). Returns ``zp`` (2Q+1, S, P),
+    ``zo`` and ``ze`` (2Q+1, S), and each quantity's step ``h sigma`` in its own unit, shape (Q,).
+    """
     Q = len(quants)
     zs_p = np.zeros((2 * Q + 1, S, P))
     zs_o = np.zeros((2 * Q + 1, S))
@@ -422,18 +449,22 @@ def tolerance_analysis(design: Design, x_mm: np.ndarray, *, target=None, n_sampl
                 zs_o[row, j] = sign * h
             else:
                 zs_e[row, j] = sign * h
-    zp = np.concatenate([z[:, :, :P], zs_p])
-    zo = np.concatenate([z[:, :, P], zs_o])
-    ze = np.concatenate([z[:, :, P + 1], zs_e])
-    pert = _perturb(base, sig, zp, zo, ze)
-    r = evaluate_population(pert, x, x_max_mm=float(x.max()))      # one call: N samples + sensitivity rows
-    F_all = r.force_N
-    F = F_all[:n_samples]
-    F0 = F_all[-1]
+    return zs_p, zs_o, zs_e, steps
+
+
+def _sensitivity_table(quants, F_rows: np.ndarray, steps: np.ndarray):
+    """Elasticity and share of the spread of every quantity (module notes), ranked by ``spread_pct``.
+
+    ``F_rows`` shape (2Q+1, m): the forces of the :func:`_sensitivity_rows`, the nominal last.
+    Returns a pandas.DataFrame, one row per quantity.
+    """
+    import pandas as pd
+
+    F0 = F_rows[-1]
     sens = []
     rms0 = math.sqrt(float(np.mean(F0 * F0))) or math.nan
     for qi, (label, what, j, c, s, nom, src) in enumerate(quants):
-        dF = (F_all[n_samples + 2 * qi] - F_all[n_samples + 2 * qi + 1]) / (2.0 * steps[qi])   # dF/dq
+        dF = (F_rows[2 * qi] - F_rows[2 * qi + 1]) / (2.0 * steps[qi])   # dF/dq
         spread = 100.0 * math.sqrt(float(np.mean((dF * s) ** 2))) / rms0
         if what == "offset":
             elast = math.nan
@@ -444,8 +475,19 @@ def tolerance_analysis(design: Design, x_mm: np.ndarray, *, target=None, n_sampl
         sens.append({"quantity": label, "nominal": nom, "tolerance_pm": tol if what != "modulus" else math.nan,
                      "tolerance_pct": 100.0 * tol if what == "modulus" else (100.0 * tol / abs(nom) if nom else math.nan),
                      "elasticity": elast, "spread_pct": spread, "source": src})
-    sens_df = pd.DataFrame(sens).sort_values("spread_pct", ascending=False, ignore_index=True)
+    return pd.DataFrame(sens).sort_values("spread_pct", ascending=False, ignore_index=True)
 
+
+def _sample_table(quants, z: np.ndarray, F: np.ndarray, stress_ratio: np.ndarray, x: np.ndarray, target):
+    """Columns of the samples table, and the curve error and band check against ``target``.
+
+    ``z`` shape (N, S, P + 2): the draws in sigmas; ``F`` (N, m) and ``stress_ratio`` (N,)
+    the samples' forces and stress ratios at ``x`` (m,). Returns ``(columns, curve_error_pct,
+    in_band, share_in_band)``: a dict of (N,) arrays, (N,) or None, (N,) bool or None, and a
+    float (NaN without a band).
+    """
+    P = z.shape[2] - 2
+    n_samples = len(F)
     err = inb = None
     share = math.nan
     cols = {"sample": np.arange(1, n_samples + 1)}
@@ -457,7 +499,7 @@ def tolerance_analysis(design: Design, x_mm: np.ndarray, *, target=None, n_sampl
         else:
             cols[label + "_factor"] = 1.0 + s * z[:, j, P + 1]
     cols["force_end_N"] = F[:, -1]
-    cols["stress_ratio"] = r.stress_ratio[:n_samples]
+    cols["stress_ratio"] = stress_ratio
     if target is not None:
         Ft = F if np.array_equal(x, target.x_mm) else _at(F, x, target.x_mm)
         with np.errstate(all="ignore"):
@@ -467,16 +509,10 @@ def tolerance_analysis(design: Design, x_mm: np.ndarray, *, target=None, n_sampl
             inb = target.in_band(Ft)
             share = float(np.mean(inb))
             cols["in_band"] = inb
-    p05, p50, p95 = np.percentile(F, [5.0, 50.0, 95.0], axis=0)
-    return ToleranceResult(design.name, x, F0, p05, p50, p95, F, r.stress_ratio[:n_samples], err, inb, share,
-                           pd.DataFrame(cols), sens_df, process)
+    return cols, err, inb, share
 
 
 def _at(F: np.ndarray, x: np.ndarray, xt: np.ndarray) -> np.ndarray:
+    """Each row of ``F`` (shape (N, m), at ``x``) interpolated at ``xt``: shape (N, len(xt))."""
     return np.stack([np.interp(xt, x, f) for f in F])
-
-
-# --------------------------------------------------------------------------- figures and files
-
-
 

@@ -18,7 +18,6 @@ mm and masses in g. No Python loop over the population axis, no I/O.
 
 from __future__ import annotations
 
-import math
 from dataclasses import dataclass, field
 from typing import Mapping
 
@@ -26,7 +25,7 @@ import numpy as np
 
 from springsynth.model.materials import MaterialArrays
 
-__all__ = ["Param", "ElementKind", "Params", "TOLERANCE_CLASSES", "missing_declarations", "second_moment_rect", "second_moment_round", "DENSITY_TO_G_PER_MM3"]
+__all__ = ["Param", "ElementKind", "Params", "TOLERANCE_CLASSES", "missing_declarations", "DENSITY_TO_G_PER_MM3"]
 
 Params = Mapping[str, np.ndarray]
 
@@ -227,16 +226,6 @@ _SYMBOLS = {
     "mean_diameter_mm": "D", "active_coils": "Na", "free_length_mm": "L0", "initial_tension_N": "Fi",
     "natural_radius_mm": "Rn", "radius_mm": "R", "notch_radius_mm": "R",
 }
-
-
-def second_moment_rect(b: np.ndarray, t: np.ndarray) -> np.ndarray:
-    """``I = b t^3 / 12``, mm^4."""
-    return b * t**3 / 12.0
-
-
-def second_moment_round(d: np.ndarray) -> np.ndarray:
-    """``I = pi d^4 / 64``, mm^4."""
-    return math.pi * d**4 / 64.0
 
 
 #: kg/m^3 * mm^3 -> g

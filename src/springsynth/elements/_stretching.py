@@ -12,7 +12,7 @@ from __future__ import annotations
 
 import numpy as np
 
-__all__ = ["RegularTable", "row_weights", "RowTable", "ogden_uniaxial_nominal", "secant_ratio"]
+__all__ = ["RegularTable", "row_weights", "RowTable", "ogden_uniaxial_nominal"]
 
 
 class RegularTable:
@@ -181,30 +181,3 @@ def ogden_uniaxial_nominal(lam: np.ndarray, mu: np.ndarray, alpha: np.ndarray, o
         out[...] = 0.0
     return out
 
-
-#: Strains below this are treated as the small-strain limit in :func:`secant_ratio`.
-_EPS_FLOOR = 1e-6
-
-
-def secant_ratio(eps: np.ndarray, E: np.ndarray, mu: np.ndarray, alpha: np.ndarray) -> np.ndarray:
-    """Axial secant stiffness of a hyperelastic strip over its small-strain modulus.
-
-    ``r = P(1 + eps) / (E eps)``: the nominal stress of the material's own law at the
-    mean axial stretch, divided by what a linear material of modulus E would carry.
-    r < 1 for a law that softens in tension (neo-Hookean, most filled elastomers).
-
-    Parameters
-    ----------
-    eps : ndarray, shape (n, m)
-        Mean axial (nominal) strain, >= 0.
-    E : ndarray, shape (n,)
-        Small-strain Young's modulus, MPa.
-    mu, alpha : ndarray, shape (n, k)
-        Ogden series.
-
-    Returns
-    -------
-    ndarray, shape (n, m)
-    """
-    e = np.maximum(eps, _EPS_FLOOR)
-    return ogden_uniaxial_nominal(1.0 + e, mu, alpha) / (E[:, None] * e)

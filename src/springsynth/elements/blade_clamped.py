@@ -121,6 +121,7 @@ stretching beam (memory); R.W. Ogden, Proc. R. Soc. Lond. A 326:565, 1972.
 from __future__ import annotations
 
 from functools import lru_cache
+from typing import NamedTuple
 
 import numpy as np
 
@@ -233,6 +234,23 @@ def chord_functions(b: np.ndarray, with_h: bool = True):
     return G, h
 
 
+class _Chord(NamedTuple):
+    """Kinematics of the half-span chord (module notes), arrays of shape (k, m).
+
+    ``phi``, ``sinp``, ``cosp``: the chord angle, its sine and cosine (blended with their
+    moderate-rotation forms q, q, 1); ``chord_r``: L_c / (L/2); ``s``: the chord stretch.
+    Without ``blend`` (moderate rotation everywhere) ``phi`` and ``sinp`` are ``q`` itself
+    and ``cosp``, ``chord_r`` are None.
+    """
+
+    blend: bool
+    phi: np.ndarray
+    sinp: np.ndarray
+    cosp: np.ndarray | None
+    chord_r: np.ndarray | None
+    s: np.ndarray
+
+
 def hyperelastic_solution(L, t, E, mu, alpha, u):
     """Chord-model state of hyperelastic rows (module notes), all arrays shape (k, m).
 
@@ -253,12 +271,36 @@ def hyperelastic_solution(L, t, E, mu, alpha, u):
         model, ``fibre`` peak fibre nominal strain at the clamp, ``w`` the blend weight
         (0: moderate-rotation kinematics, 1: exact chord kinematics).
 
-    Written with in-place operations: for large populations the temporaries, not the
-    arithmetic, dominate the cost.
+    Notes
+    -----
+    Steps: the blend weight (:func:`_blend_weight`), the chord kinematics
+    (:func:`_chord_kinematics`), the stretching closure (:func:`_stretch_closure`), the
+    force and clamp bending strain (:func:`_force_and_bending_strain`) and, where the
+    rotation is large, the clamp's fibre strain (:func:`_large_rotation_fibre`). Written
+    with in-place operations: for large populations the temporaries, not the arithmetic,
+    dominate the cost.
     """
     Ec = E[:, None]
     tc = t[:, None]
     q = u * (2.0 / L)[:, None]                      # 2 delta / L
+    w, tmp = _blend_weight(q)
+    chord = _chord_kinematics(q, w, tmp)
+    half_L = (0.5 * L)[:, None]
+    kb = (0.5 * L * np.sqrt(3.0 / E) / t)[:, None]  # b = kb (L_c/(L/2)) sqrt(P / lambda_b)
+    lam, P, h, lam_b, work = _stretch_closure(chord, w, Ec, kb, mu, alpha)
+    F, eps_b = _force_and_bending_strain(chord, h, lam_b, P, Ec, tc, half_L, work)
+    fibre = lam - 1.0
+    fibre += eps_b                                  # peak fibre nominal strain (moderate rotation)
+    if chord.blend:
+        fibre += _large_rotation_fibre(chord, lam, eps_b, w, tmp, work)
+    return {"F_per_width": F, "lam": lam, "P": P, "eps_b": eps_b, "fibre": fibre, "w": w}
+
+
+def _blend_weight(q):
+    """Smoothstep weight of delta/L from ROTATION_LIMIT (0) to BLEND_END (1), and a work array.
+
+    ``q = 2 delta / L``, shape (k, m). Returns ``w`` and a free work array, both (k, m).
+    """
     inv_band = 1.0 / (BLEND_END - ROTATION_LIMIT)
     w = q * (0.5 * inv_band)
     w -= ROTATION_LIMIT * inv_band
@@ -267,51 +309,72 @@ def hyperelastic_solution(L, t, E, mu, alpha, u):
     w *= -2.0
     w += 3.0
     w *= tmp                                        # smoothstep x^2 (3 - 2 x)
+    return w, tmp
+
+
+def _chord_kinematics(q, w, tmp) -> _Chord:
+    """Chord angle, its sine and cosine, chord length and stretch, blended with weight ``w``.
+
+    ``q = 2 delta / L`` and ``w``, shape (k, m); ``tmp`` a work array (overwritten). The
+    exact chord values (``phi = atan q``, ``L_c / (L/2) = sqrt(1 + q^2)``) replace the
+    moderate-rotation ones (``q``, ``1 + q^2/2``) as ``w`` goes from 0 to 1.
+    """
     blend = bool(w.any())
     q2 = np.multiply(q, q, out=tmp)
     s = q2 * 0.5
     s += 1.0                                        # moderate rotation: 1 + q^2/2
-    if blend:
-        s_ex = q2 + 1.0
-        np.sqrt(s_ex, out=s_ex)                     # exact sqrt(1 + q^2)
-        phi = np.arctan(q)
-        phi -= q
-        phi *= w
-        phi += q
-        cosp = 1.0 / s_ex
-        sinp = q * cosp
-        sinp -= q
-        sinp *= w
-        sinp += q
-        cosp -= 1.0
-        cosp *= w
-        cosp += 1.0
-        np.subtract(s_ex, s, out=tmp)
-        tmp *= w
-        s += tmp                                    # stretch of the chord
-        chord_r = s_ex
-        chord_r -= 1.0
-        chord_r *= w
-        chord_r += 1.0                              # L_c / (L/2)
-    else:                                           # moderate rotation everywhere
-        phi = sinp = q
-        cosp = chord_r = None
-    half_L = (0.5 * L)[:, None]
-    kb = (0.5 * L * np.sqrt(3.0 / E) / t)[:, None]  # b = kb (L_c/(L/2)) sqrt(P / lambda_b)
+    if not blend:                                   # moderate rotation everywhere
+        return _Chord(False, q, q, None, None, s)
+    s_ex = q2 + 1.0
+    np.sqrt(s_ex, out=s_ex)                         # exact sqrt(1 + q^2)
+    phi = np.arctan(q)
+    phi -= q
+    phi *= w
+    phi += q
+    cosp = 1.0 / s_ex
+    sinp = q * cosp
+    sinp -= q
+    sinp *= w
+    sinp += q
+    cosp -= 1.0
+    cosp *= w
+    cosp += 1.0
+    np.subtract(s_ex, s, out=tmp)
+    tmp *= w
+    s += tmp                                        # stretch of the chord
+    chord_r = s_ex
+    chord_r -= 1.0
+    chord_r *= w
+    chord_r += 1.0                                  # L_c / (L/2)
+    return _Chord(True, phi, sinp, cosp, chord_r, s)
+
+
+def _stretch_closure(chord: _Chord, w, Ec, kb, mu, alpha):
+    """Fixed-point passes lambda -> T -> b -> G -> lambda of the stretching closure.
+
+    Starts from G = 1/5 (bending limit) with a first pass at the small-strain modulus
+    (T = E A (lambda - 1)), then ``_HYPER_PASSES`` passes with the law. ``Ec``, ``kb``
+    shape (k, 1), ``mu``, ``alpha`` (k, N_OGDEN), the rest (k, m).
+
+    Returns
+    -------
+    lam, P, h, lam_b, work : ndarray, shape (k, m)
+        Mean stretch, nominal axial stress (MPa), end-moment function h(b), the stretch
+        in the bending stiffness (None without blend) and a free work array.
+    """
     # stretch lambda = s + (phi^2/2) G(b) L_c/(L/2): exact chord kinematics for w = 1, and
     # 1 + c(a) delta^2/L^2 (c = 2 (1 + G)) of the moderate-rotation closure for w = 0
-    gain = phi * phi
+    blend = chord.blend
+    gain = chord.phi * chord.phi
     gain *= 0.5
     if blend:
-        gain *= chord_r
-    # start: G = 1/5 (bending limit), a first pass with the small-strain modulus
-    # (T = E A (lambda - 1)), then the passes with the law
+        gain *= chord.chord_r
     lam = gain * 0.2
-    lam += s
+    lam += chord.s
     P = np.empty_like(lam)
     bb = np.empty_like(lam)
     lam_b = np.empty_like(lam) if blend else None
-    chord_r2 = chord_r * chord_r if blend else None
+    chord_r2 = chord.chord_r * chord.chord_r if blend else None
     for k in range(_HYPER_PASSES + 1):
         if k == 0:
             np.subtract(lam, 1.0, out=bb)
@@ -332,48 +395,61 @@ def hyperelastic_solution(L, t, E, mu, alpha, u):
         G, h = chord_functions(bb, with_h=last)
         if not last:
             G *= gain
-            G += s
+            G += chord.s
             lam = G
-    # end moment M = 6 E I curv, curv = lambda_b phi h / L_c (1/mm)
+    return lam, P, h, lam_b, bb
+
+
+def _force_and_bending_strain(chord: _Chord, h, lam_b, P, Ec, tc, half_L, work):
+    """Force per width ``2 t (P sin phi + E t^2 curv cos phi / L_c)`` and the clamp bending strain.
+
+    The end moment is ``M = 6 E I curv``, ``curv = lambda_b phi h / L_c`` (1/mm); the
+    clamp bending strain ``(t/2) M / (E I) = 3 t curv``. ``h`` is overwritten (it becomes
+    the bending strain) and ``work`` is a work array; ``Ec``, ``tc``, ``half_L`` shape
+    (k, 1), the rest (k, m). Returns ``F_per_width`` (N/mm) and ``eps_b``, shape (k, m).
+    """
     curv = h
-    curv *= phi
+    curv *= chord.phi
     curv /= half_L
-    if blend:
-        curv /= chord_r
+    if chord.blend:
+        curv /= chord.chord_r
         curv *= lam_b
-    # F / width = 2 t (P sin phi + E t^2 curv cos phi / L_c)
     F = curv * (Ec * tc * tc)
     F /= half_L
-    if blend:
-        F /= chord_r
-        F *= cosp
-    np.multiply(P, sinp, out=bb)
-    F += bb
+    if chord.blend:
+        F /= chord.chord_r
+        F *= chord.cosp
+    np.multiply(P, chord.sinp, out=work)
+    F += work
     F *= 2.0 * tc
     eps_b = curv
     eps_b *= 3.0 * tc                               # (t/2) M / (E I)
-    fibre = lam - 1.0
-    fibre += eps_b                                  # peak fibre nominal strain (moderate rotation)
-    if blend:
-        # at the clamp the axial force is the horizontal one, ~ T cos phi (secant estimate
-        # of its stretch; conservative for a law that softens), and the exact boundary
-        # layer turns by 2 sin(phi/2) instead of phi, at the stiffness of that stretch
-        lam_c = lam - 1.0
-        lam_c *= cosp
-        lam_c += 1.0
-        fac = np.multiply(phi, phi, out=tmp)
-        fac *= 0.25                                 # x^2, x = phi/2 <= pi/4
-        fac = _sinc_series(fac)                     # sin(x) / x
-        np.divide(lam_c, lam, out=bb)
-        np.sqrt(bb, out=bb)
-        fac *= bb
-        fac -= 1.0
-        fac *= eps_b
-        np.subtract(lam_c, lam, out=bb)
-        fac += bb
-        fac *= w
-        fibre += fac
-    return {"F_per_width": F, "lam": lam, "P": P, "eps_b": eps_b, "fibre": fibre, "w": w}
+    return F, eps_b
+
+
+def _large_rotation_fibre(chord: _Chord, lam, eps_b, w, tmp, work):
+    """What large rotation adds to the peak fibre strain at the clamp, times ``w``, shape (k, m).
+
+    At the clamp the axial force is the horizontal one, ~ T cos phi (secant estimate of
+    its stretch; conservative for a law that softens), and the exact boundary layer turns
+    by 2 sin(phi/2) instead of phi, at the stiffness of that stretch. ``tmp`` and
+    ``work`` are work arrays (``tmp`` is returned holding the result).
+    """
+    lam_c = lam - 1.0
+    lam_c *= chord.cosp
+    lam_c += 1.0
+    fac = np.multiply(chord.phi, chord.phi, out=tmp)
+    fac *= 0.25                                     # x^2, x = phi/2 <= pi/4
+    fac = _sinc_series(fac)                         # sin(x) / x
+    np.divide(lam_c, lam, out=work)
+    np.sqrt(work, out=work)
+    fac *= work
+    fac -= 1.0
+    fac *= eps_b
+    np.subtract(lam_c, lam, out=work)
+    fac += work
+    fac *= w
+    return fac
 
 
 def _sinc_series(x2: np.ndarray) -> np.ndarray:

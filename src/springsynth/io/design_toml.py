@@ -1,4 +1,6 @@
-"""Reading and writing design files (TOML, DESIGN.md "Design TOML")."""
+"""Reading and writing design files (TOML: a ``name`` and one ``[[element]]`` table per element
+with ``kind``, ``material``, ``count``, ``offset_mm`` and the kind's parameters; examples in
+``studies/*.design.toml``)."""
 
 from __future__ import annotations
 

@@ -1,4 +1,12 @@
-"""Run folders (DESIGN.md "Results of a run"): writing them and reading them back."""
+"""Run folders: writing them and reading them back.
+
+A run folder holds ``pareto.csv`` (the table of :meth:`Synthesis.to_frame`),
+``designs/<id>.toml`` (one design file per row), ``curves.csv`` (each design's force over
+:func:`curve_grid`), copies of the inputs (``study.toml``, ``target.csv``), ``run.json``
+(seed, budget, history, timings, versions) and, for a run interrupted with Ctrl-C, a
+checkpoint for ``run --resume``; the figures and ``report.html`` are built from the folder
+alone (:func:`build_report`).
+"""
 
 from __future__ import annotations
 

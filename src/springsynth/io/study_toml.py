@@ -1,4 +1,10 @@
-"""Study files (DESIGN.md "Study TOML"): what to search for, validated key by key."""
+"""Study files (TOML): what to search for, validated key by key.
+
+Tables and keys (``_SCHEMA`` below; defaults in :data:`springsynth.model.study.DEFAULTS`,
+examples in ``studies/*.toml``): ``name``, ``description``, ``[target] file`` (a target CSV,
+relative to the study), ``[envelope]`` the box, ``[limits]``, ``[search]`` (element kinds,
+materials, budget, options) and ``[materials.<id>]`` for materials defined inline.
+"""
 
 from __future__ import annotations
 

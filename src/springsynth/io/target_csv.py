@@ -1,9 +1,12 @@
-"""Target force-displacement curves from CSV (DESIGN.md "Target curve CSV").
+"""Target force-displacement curves from CSV.
 
 Columns: ``displacement``, ``force``; optional ``tolerance`` (a +/- band) or
 ``force_min`` and ``force_max``; optional ``weight``. Every header but ``weight``
 carries a unit, as a suffix (``force_N``) or in brackets (``force [lbf]``); units
-other than mm and N are converted with pint.
+other than mm and N are converted with pint. Rows starting with ``#`` and blank rows
+are skipped; the displacement must start at >= 0 and increase strictly; a target of
+more than MAX_POINTS rows is resampled to RESAMPLED_POINTS evenly spaced points (with
+a notice). Examples in ``targets/*.csv``.
 """
 
 from __future__ import annotations
@@ -101,60 +104,102 @@ def _parse_header(cells: list[str], where: str) -> dict[str, tuple[int, float]]:
 
 
 def load_target(path: str | Path) -> Target:
-    """Read and validate a target CSV; errors name the file, row and column."""
+    """Read and validate a target CSV; errors name the file, row and column.
+
+    Steps: open (:func:`_open`), read the header and the rows into typed arrays
+    (:func:`_read_table`), check the displacement (:func:`_displacement`), the band
+    (:func:`_band`) and the weights (:func:`_weights`), and resample a long target
+    (:func:`_resample`).
+    """
     path = Path(path)
     where = str(path)
+    fh = _open(path, where)
     try:
-        fh = path.open("r", encoding="utf-8-sig", newline="")
+        with fh:
+            data, rownos = _read_table(fh, where)
+    except UnicodeDecodeError:
+        raise InputError(_not_utf8(path), where=where) from None
+    x = _displacement(data, rownos, where)
+    f = _column(data, "force")
+    lo, hi = _band(data, f, rownos, where)
+    w = _weights(data, rownos, where)
+    notices: list[str] = []
+    if x.size > MAX_POINTS:
+        notices.append(f"{x.size} rows resampled to {RESAMPLED_POINTS} evenly spaced points")
+        x, f, lo, hi, w = _resample(x, f, lo, hi, w)
+    return Target(x, f, lo, hi, w, name=where, notices=tuple(notices))
+
+
+def _open(path: Path, where: str):
+    """The file opened as UTF-8 text (a leading BOM skipped); a clear error when it cannot be."""
+    try:
+        return path.open("r", encoding="utf-8-sig", newline="")
     except FileNotFoundError:
         raise InputError("file not found; check the path", where=where) from None
     except IsADirectoryError:
         raise InputError("is a folder, not a CSV file", where=where) from None
     except (OSError, ValueError) as e:  # ValueError: a NUL in the path
         raise InputError(f"cannot be read ({getattr(e, 'strerror', None) or e})", where=where) from None
-    notices: list[str] = []
-    try:
-        with fh:
-            rows = _read_rows(fh, where)
-            header_row, header = next(rows, (0, None))
-            if header is None:
-                raise InputError("is empty; expected a header displacement_mm,force_N and at least 3 rows", where=where)
-            if len(header) == 1 and (";" in header[0] or "\t" in header[0]):
-                sep = "semicolons" if ";" in header[0] else "tabs"
-                raise InputError(f"row {header_row}: columns are separated by {sep}; use commas", where=where)
-            cols = _parse_header(header, where)
-            ncol = len(header)
-            # typed arrays, not lists of floats: a 10^6-row file stays a few tens of MB
-            data: dict[str, array] = {c: array("d") for c in cols}
-            rownos = array("q")
-            for rowno, cells in rows:
-                rownos.append(rowno)
-                if len(cells) != ncol:
-                    hint = ""
-                    if len(cells) > ncol and any(re.fullmatch(r"-?\d+", c.strip()) for c in cells[1:]):
-                        hint = " (decimal commas? use points, or quote each cell)"
-                    raise InputError(f"row {rowno} has {len(cells)} cells, the header has {ncol}{hint}", where=where)
-                for name, (j, fac) in cols.items():
-                    text = cells[j].strip()
-                    try:
-                        v = float(text)
-                    except ValueError:
-                        hint = " (decimal comma? use a point)" if re.fullmatch(r"-?\d+,\d+", text) else \
-                            " (a quote opened in this cell is not closed)" if "\n" in text else ""
-                        raise InputError(f"row {rowno}, column {name}: {text!r} is not a number{hint}", where=where) from None
-                    if not math.isfinite(v):
-                        raise InputError(f"row {rowno}, column {name}: {text!r} is not a finite number", where=where)
-                    if not math.isfinite(v * fac):
-                        raise InputError(f"row {rowno}, column {name}: {text!r} overflows when converted to "
-                                         f"{_DIMENSION[name][1]}; check the value and the unit", where=where)
-                    data[name].append(v * fac)
-    except UnicodeDecodeError:
-        raise InputError(_not_utf8(path), where=where) from None
 
-    x = np.frombuffer(data["displacement"], dtype=float).copy()
+
+def _read_table(fh, where: str) -> tuple[dict[str, array], array]:
+    """Header and rows of an open target CSV: the values of each column in mm or N, and the file row of each.
+
+    Typed arrays, not lists of floats: a 10^6-row file stays a few tens of MB.
+    """
+    rows = _read_rows(fh, where)
+    header_row, header = next(rows, (0, None))
+    if header is None:
+        raise InputError("is empty; expected a header displacement_mm,force_N and at least 3 rows", where=where)
+    if len(header) == 1 and (";" in header[0] or "\t" in header[0]):
+        sep = "semicolons" if ";" in header[0] else "tabs"
+        raise InputError(f"row {header_row}: columns are separated by {sep}; use commas", where=where)
+    cols = _parse_header(header, where)
+    data: dict[str, array] = {c: array("d") for c in cols}
+    rownos = array("q")
+    for rowno, cells in rows:
+        rownos.append(rowno)
+        _read_row(rowno, cells, len(header), cols, data, where)
+    return data, rownos
+
+
+def _read_row(rowno: int, cells: list[str], ncol: int, cols: dict[str, tuple[int, float]],
+              data: dict[str, array], where: str) -> None:
+    """Append the converted values of one data row to ``data``; errors name the row and column."""
+    if len(cells) != ncol:
+        hint = ""
+        if len(cells) > ncol and any(re.fullmatch(r"-?\d+", c.strip()) for c in cells[1:]):
+            hint = " (decimal commas? use points, or quote each cell)"
+        raise InputError(f"row {rowno} has {len(cells)} cells, the header has {ncol}{hint}", where=where)
+    for name, (j, fac) in cols.items():
+        text = cells[j].strip()
+        try:
+            v = float(text)
+        except ValueError:
+            hint = " (decimal comma? use a point)" if re.fullmatch(r"-?\d+,\d+", text) else \
+                " (a quote opened in this cell is not closed)" if "\n" in text else ""
+            raise InputError(f"row {rowno}, column {name}: {text!r} is not a number{hint}", where=where) from None
+        if not math.isfinite(v):
+            raise InputError(f"row {rowno}, column {name}: {text!r} is not a finite number", where=where)
+        if not math.isfinite(v * fac):
+            raise InputError(f"row {rowno}, column {name}: {text!r} overflows when converted to "
+                             f"{_DIMENSION[name][1]}; check the value and the unit", where=where)
+        data[name].append(v * fac)
+
+
+def _column(data: dict[str, array], name: str) -> np.ndarray:
+    """Column ``name`` as a new float array, shape (n,)."""
+    return np.frombuffer(data[name], dtype=float).copy()
+
+
+def _displacement(data: dict[str, array], rownos: array, where: str) -> np.ndarray:
+    """The displacement column, mm, shape (n,): at least 3 rows, strictly increasing, from >= 0.
+
+    Ordering faults are reported by file row (before any resampling).
+    """
+    x = _column(data, "displacement")
     if x.size < 3:
         raise InputError(f"has {x.size} data rows; at least 3 are needed", where=where)
-    # report ordering faults by file row before any resampling
     d = np.flatnonzero(np.diff(x) <= 0)
     if d.size:
         i = int(d[0])
@@ -162,10 +207,17 @@ def load_target(path: str | Path) -> Target:
                          f"follows {x[i]:g} mm", where=where)
     if x[0] < 0:
         raise InputError(f"row {rownos[0]}: displacement must be >= 0 (a stroke), got {x[0]:g} mm", where=where)
-    f = np.frombuffer(data["force"], dtype=float).copy()
-    lo = hi = None
+    return x
+
+
+def _band(data: dict[str, array], f: np.ndarray, rownos: array, where: str):
+    """Lower and upper force bounds, N, shape (n,) each (None, None without a band).
+
+    From ``tolerance`` (>= 0, ``f -+ tolerance``) or from ``force_min`` and
+    ``force_max`` (which must contain the force).
+    """
     if "tolerance" in data:
-        tol = np.frombuffer(data["tolerance"], dtype=float).copy()
+        tol = _column(data, "tolerance")
         if np.any(tol < 0):
             i = int(np.flatnonzero(tol < 0)[0])
             raise InputError(f"row {rownos[i]}: tolerance must be >= 0, got {tol[i]:g} N", where=where)
@@ -176,26 +228,41 @@ def load_target(path: str | Path) -> Target:
             i = int(bad[0])
             raise InputError(f"row {rownos[i]}: force +/- tolerance overflows ({f[i]:g} +/- {tol[i]:g} N); "
                              f"check the values and units", where=where)
-    elif "force_min" in data:
-        lo, hi = (np.frombuffer(data[c], dtype=float).copy() for c in ("force_min", "force_max"))
+        return lo, hi
+    if "force_min" in data:
+        lo, hi = (_column(data, c) for c in ("force_min", "force_max"))
         bad = np.flatnonzero(~((lo <= f) & (f <= hi)))
         if bad.size:
             i = int(bad[0])
             raise InputError(f"row {rownos[i]}: the band [{lo[i]:g}, {hi[i]:g}] N does not contain the force "
                              f"{f[i]:g} N", where=where)
-    w = np.frombuffer(data["weight"], dtype=float).copy() if "weight" in data else None
-    if w is not None and np.any(w < 0):
+        return lo, hi
+    return None, None
+
+
+def _weights(data: dict[str, array], rownos: array, where: str) -> np.ndarray | None:
+    """The ``weight`` column (>= 0), shape (n,), or None."""
+    if "weight" not in data:
+        return None
+    w = _column(data, "weight")
+    if np.any(w < 0):
         i = int(np.flatnonzero(w < 0)[0])
         raise InputError(f"row {rownos[i]}: weight must be >= 0, got {w[i]:g}", where=where)
-    if x.size > MAX_POINTS:
-        xs = np.linspace(x[0], x[-1], RESAMPLED_POINTS)
-        notices.append(f"{x.size} rows resampled to {RESAMPLED_POINTS} evenly spaced points")
-        f = np.interp(xs, x, f)
-        lo = None if lo is None else np.interp(xs, x, lo)
-        hi = None if hi is None else np.interp(xs, x, hi)
-        w = None if w is None else np.interp(xs, x, w)
-        x = xs
-    return Target(x, f, lo, hi, w, name=where, notices=tuple(notices))
+    return w
+
+
+def _resample(x, f, lo, hi, w):
+    """Every curve at RESAMPLED_POINTS evenly spaced displacements (linear interpolation).
+
+    ``x``, ``f`` shape (n,); ``lo``, ``hi``, ``w`` shape (n,) or None. Returns the five,
+    each shape (RESAMPLED_POINTS,) or None.
+    """
+    xs = np.linspace(x[0], x[-1], RESAMPLED_POINTS)
+    f = np.interp(xs, x, f)
+    lo = None if lo is None else np.interp(xs, x, lo)
+    hi = None if hi is None else np.interp(xs, x, hi)
+    w = None if w is None else np.interp(xs, x, w)
+    return xs, f, lo, hi, w
 
 
 def _read_rows(fh, where):

@@ -450,33 +450,9 @@ def plot_design(design: Design, resp: Response, *, target: Target | None = None,
     element past its peak) downward, so every band keeps its true size; the total is
     the black line.
     """
-    n_el = len(design.elements)
-    if schematic:  # right column: the sketch above, both legends below (never over the data)
-        extra = max(n_el - 2, 0)
-        fig = plt.figure(figsize=(11.5, 6.6 + 0.5 * extra))
-        gs = fig.add_gridspec(2, 2, width_ratios=[2.1, 1.0], height_ratios=[2.1 + 0.1 * extra, 1.0 + 0.25 * extra],
-                              wspace=0.05, hspace=0.08, left=0.07, right=0.995, top=0.93, bottom=0.08)
-        ax = fig.add_subplot(gs[0, 0])
-        ax2 = fig.add_subplot(gs[1, 0], sharex=ax)
-        plot_schematic(design, ax=fig.add_subplot(gs[0, 1]))
-        lax = fig.add_subplot(gs[1, 1])
-        lax.axis("off")
-    else:
-        fig, (ax, ax2) = plt.subplots(2, 1, figsize=(7.6, 6.4), sharex=True, height_ratios=[2.2, 1],
-                                      gridspec_kw=dict(hspace=0.08, left=0.11, right=0.98, top=0.93, bottom=0.085))
-        lax = None
+    fig, ax, ax2, lax = _design_axes(design, schematic)
     x = resp.x_mm
-    parts = resp.element_force_N[0]
-    pos = np.zeros_like(x)
-    neg = np.zeros_like(x)
-    for j, e in enumerate(design.elements):
-        f = np.nan_to_num(parts[j])
-        base = np.where(f >= 0, pos, neg)
-        words = _offset_words(e.offset_mm)
-        ax.fill_between(x, base, base + f, color=PALETTE[j % len(PALETTE)], alpha=0.5, lw=0, zorder=2,
-                        label=f"e{j + 1}: {e.count}× {e.kind} ({e.material})" + (f"\n      {words}" if words else ""))
-        pos = np.where(f >= 0, pos + f, pos)
-        neg = np.where(f < 0, neg + f, neg)
+    pos, neg = _stacked_contributions(ax, design, x, resp.element_force_N[0])
     if target is not None:
         plot_target(target, ax, over=True)
     ax.plot(x, resp.force_N[0], color=INK, lw=2.0, label="total force", zorder=5)
@@ -487,13 +463,62 @@ def plot_design(design: Design, resp: Response, *, target: Target | None = None,
     ax.set_ylabel("force F [N]")
     ax.tick_params(labelbottom=False)
     ax.set_title(title or f"{design.name}: force along the stroke", loc="left")
-    src = resp.stress_ratio_curve[0]
+    _stress_panel(ax2, design, x, resp.stress_ratio_curve[0], element_stress, stress_limit)
+    _design_legends(ax, ax2, lax)
+    ax.set_xlim(0, float(np.max(x)) * 1.01 if x.size else 1)
+    fig.align_ylabels([ax, ax2])
+    return fig
+
+
+def _design_axes(design: Design, schematic: bool):
+    """Figure and axes of :func:`plot_design`: ``(fig, force axes, stress axes, legend axes or None)``.
+
+    With the schematic: the force and stress panels on the left, the sketch at the top
+    right and one legend axes below it (never over the data); without: the two panels.
+    """
+    if not schematic:
+        fig, (ax, ax2) = plt.subplots(2, 1, figsize=(7.6, 6.4), sharex=True, height_ratios=[2.2, 1],
+                                      gridspec_kw=dict(hspace=0.08, left=0.11, right=0.98, top=0.93, bottom=0.085))
+        return fig, ax, ax2, None
+    extra = max(len(design.elements) - 2, 0)
+    fig = plt.figure(figsize=(11.5, 6.6 + 0.5 * extra))
+    gs = fig.add_gridspec(2, 2, width_ratios=[2.1, 1.0], height_ratios=[2.1 + 0.1 * extra, 1.0 + 0.25 * extra],
+                          wspace=0.05, hspace=0.08, left=0.07, right=0.995, top=0.93, bottom=0.08)
+    ax = fig.add_subplot(gs[0, 0])
+    ax2 = fig.add_subplot(gs[1, 0], sharex=ax)
+    plot_schematic(design, ax=fig.add_subplot(gs[0, 1]))
+    lax = fig.add_subplot(gs[1, 1])
+    lax.axis("off")
+    return fig, ax, ax2, lax
+
+
+def _stacked_contributions(ax, design: Design, x: np.ndarray, parts: np.ndarray):
+    """Each element's force as a band, positive ones stacked up from zero, negative ones down.
+
+    ``parts`` shape (S, m), N. Returns the upper and lower envelopes, each shape (m,).
+    """
+    pos = np.zeros_like(x)
+    neg = np.zeros_like(x)
+    for j, e in enumerate(design.elements):
+        f = np.nan_to_num(parts[j])
+        base = np.where(f >= 0, pos, neg)
+        words = _offset_words(e.offset_mm)
+        ax.fill_between(x, base, base + f, color=PALETTE[j % len(PALETTE)], alpha=0.5, lw=0, zorder=2,
+                        label=f"e{j + 1}: {e.count}× {e.kind} ({e.material})" + (f"\n      {words}" if words else ""))
+        pos = np.where(f >= 0, pos + f, pos)
+        neg = np.where(f < 0, neg + f, neg)
+    return pos, neg
+
+
+def _stress_panel(ax2, design: Design, x: np.ndarray, ratio: np.ndarray, element_stress, stress_limit) -> None:
+    """The worst element's stress ratio ``ratio`` (shape (m,)), each element's own
+    (``element_stress``, (S, m), with more than one element) and the limit, shaded beyond."""
     if element_stress is not None and len(design.elements) > 1:
         for j in range(min(len(design.elements), len(element_stress))):
             ax2.plot(x, element_stress[j], color=PALETTE[j % len(PALETTE)], lw=1.0, ls=DASHES[(j + 1) % len(DASHES)],
                      label=f"e{j + 1}")
-    ax2.plot(x, src, color=INK, lw=1.8, label="stress / allowable, worst element")
-    top = float(np.nanmax(src)) if np.any(np.isfinite(src)) else 1.0
+    ax2.plot(x, ratio, color=INK, lw=1.8, label="stress / allowable, worst element")
+    top = float(np.nanmax(ratio)) if np.any(np.isfinite(ratio)) else 1.0
     if stress_limit is not None:
         ax2.axhline(stress_limit, color=LIMIT, ls="--", lw=1.1, label=f"limit {stress_limit:g}")
         ax2.axhspan(stress_limit, max(top, stress_limit) * 1.2 + 0.05, color=LIMIT, alpha=0.07, lw=0)
@@ -501,24 +526,26 @@ def plot_design(design: Design, resp: Response, *, target: Target | None = None,
     ax2.set_ylim(0, top * 1.15 + 1e-9)
     ax2.set_xlabel("displacement x [mm]")
     ax2.set_ylabel("stress ratio [-]")
+
+
+def _design_legends(ax, ax2, lax) -> None:
+    """With a legend axes ``lax``: one legend in two headed sections (force, stress ratio),
+    so no second legend collides with the first; without: one legend in each panel."""
     h1, l1 = ax.get_legend_handles_labels()
     h2, l2 = ax2.get_legend_handles_labels()
-    if lax is not None:  # one legend, two headed sections (no second legend to collide with)
-        from matplotlib.patches import Patch
-
-        head = Patch(visible=False)
-        leg = lax.legend([head, *h1, head, *h2], ["force", *l1, "stress ratio", *l2], loc="upper left",
-                         fontsize=7.2, borderaxespad=0.0, bbox_to_anchor=(0.0, 1.0), handlelength=2.2,
-                         labelspacing=0.35)
-        for t in (leg.get_texts()[0], leg.get_texts()[len(h1) + 1]):
-            t.set_fontweight("bold")
-            t.set_position((-30, 0))
-    else:
+    if lax is None:
         ax.legend(h1, l1, loc="upper left", fontsize=7.5, framealpha=0.9, frameon=True, edgecolor="none")
         ax2.legend(h2, l2, loc="upper left", fontsize=7.5, ncol=4, framealpha=0.9, frameon=True, edgecolor="none")
-    ax.set_xlim(0, float(np.max(x)) * 1.01 if x.size else 1)
-    fig.align_ylabels([ax, ax2])
-    return fig
+        return
+    from matplotlib.patches import Patch
+
+    head = Patch(visible=False)
+    leg = lax.legend([head, *h1, head, *h2], ["force", *l1, "stress ratio", *l2], loc="upper left",
+                     fontsize=7.2, borderaxespad=0.0, bbox_to_anchor=(0.0, 1.0), handlelength=2.2,
+                     labelspacing=0.35)
+    for t in (leg.get_texts()[0], leg.get_texts()[len(h1) + 1]):
+        t.set_fontweight("bold")
+        t.set_position((-30, 0))
 
 
 def plot_tolerance(res: ToleranceResult, *, target=None, ax=None):

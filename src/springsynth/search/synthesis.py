@@ -33,7 +33,7 @@ _CONSTRAINT_WORDS = {
 
 @dataclass(frozen=True)
 class Synthesis:
-    """Result of a search. ``to_frame()`` gives the Pareto table (DESIGN.md columns).
+    """Result of a search. ``to_frame()`` gives the Pareto table (the columns of pareto.csv, see :func:`design_table`).
 
     Attributes
     ----------
@@ -92,6 +92,14 @@ class Synthesis:
 
 
 def design_table(res: Synthesis) -> pd.DataFrame:
+    """The Pareto table, one row per design, in table order.
+
+    Columns: ``design_id``, the objectives ``curve_error_pct``, ``stress_ratio``,
+    ``size_mm3``, then ``mass_g``, ``feasible``, ``topology``; ``verified_error_pct`` and
+    ``in_spec_share`` when the search computed them, ``violations`` for infeasible
+    designs; then per element j (slot order) ``e<j>_kind``, ``e<j>_material``,
+    ``e<j>_count``, ``e<j>_offset_mm`` and ``e<j>_<parameter>``.
+    """
     rows = []
     for i, d in enumerate(res.designs):
         row = {

@@ -280,7 +280,8 @@ def verified_forces(design: Design, x_mm: np.ndarray) -> np.ndarray:
 
 
 def verified_error_pct(design: Design, target) -> float:
-    """Curve error (DESIGN.md: 100 RMS_w(F - F_target) / max|F_target|) with the verification solver's forces.
+    """Curve error (``100 RMS_w(F - F_target) / max|F_target|``, %, as :meth:`Target.curve_error_pct`) with the
+    verification solver's forces.
 
     Parameters
     ----------

@@ -120,7 +120,7 @@ class HalfSpan:
 
 
 def _natural_shape(shape: Callable[[np.ndarray], np.ndarray], n: int = 4001):
-    """Arc-length parametrisation of y0(x) on x in [0, 1]: (s grid, theta0(s), kappa0(s), S)."""
+    """Arc-length parametrisation of y0(x) on x in [0, 1]: (s, theta0(s), kappa0(s), x(s), y0(s)), each shape (n,)."""
     x = np.linspace(0.0, 1.0, n)
     y0 = shape(x)
     dy = np.gradient(y0, x, edge_order=2)
@@ -129,6 +129,60 @@ def _natural_shape(shape: Callable[[np.ndarray], np.ndarray], n: int = 4001):
     th = np.arctan(dy)
     kap = np.gradient(th, s, edge_order=2)
     return s, th, kap, x, y0
+
+
+class _HalfSpanRod:
+    """Equations and end conditions of the half-span rod of :func:`solve_half_span` (see its notes).
+
+    Holds the natural shape sampled along its arc length (``sg``, ``thg``, ``kg``, ``xg``,
+    ``yg``, each shape (4001,)), its length ``S``, the axial compliance ``inv = 1 / lam2``
+    (0 when inextensible), the start condition and the loading mode.
+    """
+
+    def __init__(self, shape, lam2: float, start: str, mode: str):
+        if shape is None:
+            shape = lambda x: np.zeros_like(x)  # noqa: E731
+        self.sg, self.thg, self.kg, self.xg, self.yg = _natural_shape(shape)
+        self.S = self.sg[-1]
+        self.inv = 0.0 if not math.isfinite(lam2) else 1.0 / lam2
+        self.th0_start = float(self.thg[0])
+        self.start = start
+        self.transverse = mode == "transverse"
+
+    def kappa0(self, s):
+        """Natural curvature at arc length ``s``."""
+        return np.interp(s, self.sg, self.kg)
+
+    def forces(self, p):
+        """Internal force ``(H, V)`` from the unknown parameters (V = 0 when axial)."""
+        return (p[0], p[1]) if self.transverse else (p[0], 0.0)
+
+    def fun(self, s, y, p):
+        H, V = self.forces(p)
+        c, sn = np.cos(y[2]), np.sin(y[2])
+        e = 1.0 + (H * c + V * sn) * self.inv
+        xp, yp = e * c, e * sn
+        return np.vstack([xp, yp, self.kappa0(s) + y[3], -(xp * V - yp * H)])
+
+    def bc(self, target: float):
+        """Boundary conditions with the far end at ``target``."""
+        def bc(ya, yb, p):
+            first = ya[2] - self.th0_start if self.start == "clamped" else ya[3]
+            if self.transverse:
+                return np.array([ya[0], ya[1], first, yb[2], yb[0] - 1.0, yb[1] - target])
+            return np.array([ya[0], ya[1], first, yb[2], yb[0] - target])
+        return bc
+
+    def solve(self, target: float, mesh, y, p, quick: bool = False):
+        """One ``solve_bvp`` at end position ``target`` from the guess ``(mesh, y, p)``."""
+        return _bvp(self.fun, self.bc(target), mesh, y, p, quick=quick)
+
+    def unloaded(self):
+        """The unloaded shape as the first guess: ``(mesh, y, p)``."""
+        s0 = np.linspace(0.0, self.S, 61)
+        y = np.vstack([np.interp(s0, self.sg, self.xg), np.interp(s0, self.sg, self.yg),
+                       np.interp(s0, self.sg, self.thg), np.zeros_like(s0)])
+        return s0, y, np.zeros(2 if self.transverse else 1)
 
 
 def solve_half_span(targets: np.ndarray, *, shape: Callable[[np.ndarray], np.ndarray] | None,
@@ -171,99 +225,96 @@ def solve_half_span(targets: np.ndarray, *, shape: Callable[[np.ndarray], np.nda
 
     Start (s = 0): x = y = 0 and the end condition; far end (s = S/2): th = 0
     (symmetry), and x = 1, y = target (transverse) or x = target, V = 0 (axial).
-    Solved by ``solve_bvp`` with continuation from the unloaded shape.
+    Solved by ``solve_bvp`` with continuation from the unloaded shape
+    (:class:`_HalfSpanRod`); each step may look for a lower-energy branch
+    (:func:`_lowest_energy_branch`) and, when it fails, retry in shorter steps
+    (:func:`_in_shorter_steps`).
     """
-    if shape is None:
-        shape = lambda x: np.zeros_like(x)  # noqa: E731
-    sg, thg, kg, xg, yg = _natural_shape(shape)
-    S = sg[-1]
-    inv = 0.0 if not math.isfinite(lam2) else 1.0 / lam2
-    kappa0 = lambda s: np.interp(s, sg, kg)  # noqa: E731
-    th0_start = float(thg[0])
-    transverse = mode == "transverse"
-
-    def unpack(p):
-        return (p[0], p[1]) if transverse else (p[0], 0.0)
-
-    def fun(s, y, p):
-        H, V = unpack(p)
-        c, sn = np.cos(y[2]), np.sin(y[2])
-        e = 1.0 + (H * c + V * sn) * inv
-        xp, yp = e * c, e * sn
-        return np.vstack([xp, yp, kappa0(s) + y[3], -(xp * V - yp * H)])
-
-    def bc(ya, yb, p, target):
-        first = ya[2] - th0_start if start == "clamped" else ya[3]
-        if transverse:
-            return np.array([ya[0], ya[1], first, yb[2], yb[0] - 1.0, yb[1] - target])
-        return np.array([ya[0], ya[1], first, yb[2], yb[0] - target])
-
-    s0 = np.linspace(0.0, S, 61)
-    y = np.vstack([np.interp(s0, sg, xg), np.interp(s0, sg, yg), np.interp(s0, sg, thg), np.zeros_like(s0)])
-    p = np.zeros(2 if transverse else 1)
-    mesh = s0
-    y_start = float(yg[-1]) if transverse else 1.0
-    order = np.argsort(targets)[::-1] if not transverse else None
+    rod = _HalfSpanRod(shape, lam2, start, mode)
     tg = np.asarray(targets, dtype=float)
-    if transverse:
-        # sweep in the direction of travel (from the unloaded end position)
+    if rod.transverse:      # sweep in the direction of travel (from the unloaded end position)
+        y_start = float(rod.yg[-1])
         order = np.argsort(np.abs(tg - y_start))
-    k = tg.size
-    out = {n: np.zeros(k) for n in ("H", "V", "m", "fib", "ymax")}
-    step = min(_STEP, 0.1 * abs(float(yg[-1])) + 0.01) if transverse else 0.01
+        step = min(_STEP, 0.1 * abs(float(rod.yg[-1])) + 0.01)
+    else:                   # from the longest chord down
+        y_start = 1.0
+        order = np.argsort(targets)[::-1]
+        step = 0.01
+    out = {n: np.zeros(tg.size) for n in ("H", "V", "m", "fib", "ymax")}
+    mesh, y, p = rod.unloaded()
     last = y_start
     for target, idx in _steps(tg[order], y_start, step):
         if abs(target - y_start) < 1e-15:
             if idx >= 0:
                 for n in out:
                     out[n][order[idx]] = 0.0
-                out["ymax"][order[idx]] = float(np.max(np.abs(yg)))
+                out["ymax"][order[idx]] = float(np.max(np.abs(rod.yg)))
             continue
-        sol = _bvp(fun, lambda ya, yb, p, _t=target: bc(ya, yb, p, _t), mesh, y, p)
+        sol = rod.solve(target, mesh, y, p)
         if branch_amp > 0 and sol.status == 0:
-            best, e_best = sol, _energy(sol, inv, kappa0)
-            xm = np.interp(mesh, sg, xg)
-            for sgn in (1.0, -1.0):
-                a = sgn * branch_amp
-                y2 = y + np.vstack([np.zeros_like(mesh), a * 0.5 * (1 - np.cos(2 * np.pi * xm)),
-                                    a * np.pi * np.sin(2 * np.pi * xm), a * 2 * np.pi**2 * np.cos(2 * np.pi * xm)])
-                trial = _bvp(fun, lambda ya, yb, p, _t=target: bc(ya, yb, p, _t), mesh, y2, p, quick=True)
-                if trial.status != 0:
-                    trial = _bvp(fun, lambda ya, yb, p, _t=target: bc(ya, yb, p, _t), mesh, y2, p)
-                if trial.status == 0:
-                    e_t = _energy(trial, inv, kappa0)
-                    if e_t < e_best - 1e-12 * max(1.0, abs(e_best)):
-                        best, e_best = trial, e_t
-            sol = best
-        sub = 2
-        while sol.status != 0 and sub <= 32:       # shorter steps from the last converged state
-            m_, y_, p_ = mesh, y, p
-            for k_ in range(1, sub + 1):
-                tk = last + (target - last) * k_ / sub
-                sol = _bvp(fun, lambda ya, yb, p, _t=tk: bc(ya, yb, p, _t), m_, y_, p_)
-                if sol.status != 0:
-                    break
-                m_, y_, p_ = sol.x, sol.y, sol.p
-            sub *= 4
+            sol = _lowest_energy_branch(rod, sol, target, mesh, y, p, branch_amp)
+        if sol.status != 0:
+            sol = _in_shorter_steps(rod, last, target, mesh, y, p)
         if sol.status != 0:
             raise RuntimeError(f"rod did not converge at end position {target:.5g}: {sol.message}")
         mesh, y, p = sol.x, sol.y, sol.p
         last = target
         if idx >= 0:
-            H, V = unpack(p)
-            yy = sol.sol(np.linspace(0.0, S, 401))
-            N = H * np.cos(yy[2]) + V * np.sin(yy[2])
-            # fibre stress in units of E I / l^2 / A... returned as (|N| / lam2 + |m| c/l) * E -> strain form
-            strain = np.abs(N) * inv + np.abs(yy[3]) * c_over_l
-            j = order[idx]
-            out["H"][j], out["V"][j] = H, V
-            out["m"][j] = float(np.max(np.abs(yy[3])))
-            out["fib"][j] = float(np.max(strain))
-            out["ymax"][j] = float(np.max(np.abs(yy[1])))
+            _record(out, order[idx], rod, sol, c_over_l)
     return HalfSpan(out["H"], out["V"], out["m"], out["fib"], out["ymax"])
 
 
-def _energy(sol, inv: float, kappa0) -> float:
+def _lowest_energy_branch(rod: _HalfSpanRod, sol, target: float, mesh, y, p, amp: float):
+    """``sol`` or a solution of less strain energy started from ``y`` plus or minus ``amp``
+    of the symmetric (1 - cos 2 pi x)/2 mode (the arch's 4 pi mode)."""
+    best, e_best = sol, _energy(sol, rod.inv)
+    xm = np.interp(mesh, rod.sg, rod.xg)
+    for sgn in (1.0, -1.0):
+        a = sgn * amp
+        y2 = y + np.vstack([np.zeros_like(mesh), a * 0.5 * (1 - np.cos(2 * np.pi * xm)),
+                            a * np.pi * np.sin(2 * np.pi * xm), a * 2 * np.pi**2 * np.cos(2 * np.pi * xm)])
+        trial = rod.solve(target, mesh, y2, p, quick=True)
+        if trial.status != 0:
+            trial = rod.solve(target, mesh, y2, p)
+        if trial.status == 0:
+            e_t = _energy(trial, rod.inv)
+            if e_t < e_best - 1e-12 * max(1.0, abs(e_best)):
+                best, e_best = trial, e_t
+    return best
+
+
+def _in_shorter_steps(rod: _HalfSpanRod, last: float, target: float, mesh, y, p):
+    """From the last converged state at ``last`` to ``target`` in 2, 8 and 32 steps; the
+    first subdivision that converges all the way (or the last failed solution)."""
+    sol = None
+    sub = 2
+    while sub <= 32:
+        m_, y_, p_ = mesh, y, p
+        for k_ in range(1, sub + 1):
+            sol = rod.solve(last + (target - last) * k_ / sub, m_, y_, p_)
+            if sol.status != 0:
+                break
+            m_, y_, p_ = sol.x, sol.y, sol.p
+        if sol.status == 0:
+            break
+        sub *= 4
+    return sol
+
+
+def _record(out: dict, j: int, rod: _HalfSpanRod, sol, c_over_l: float) -> None:
+    """End forces, largest moment, fibre strain and lateral position of ``sol`` into row ``j`` of ``out``."""
+    H, V = rod.forces(sol.p)
+    yy = sol.sol(np.linspace(0.0, rod.S, 401))
+    N = H * np.cos(yy[2]) + V * np.sin(yy[2])
+    # fibre strain |N| / (E A) + |M| c / (E I) (times E: the fibre stress)
+    strain = np.abs(N) * rod.inv + np.abs(yy[3]) * c_over_l
+    out["H"][j], out["V"][j] = H, V
+    out["m"][j] = float(np.max(np.abs(yy[3])))
+    out["fib"][j] = float(np.max(strain))
+    out["ymax"][j] = float(np.max(np.abs(yy[1])))
+
+
+def _energy(sol, inv: float) -> float:
     """Strain energy of a half-span solution (units E I / l): int m^2/2 + N^2/(2 lam2) ds."""
     s = np.linspace(0.0, sol.x[-1], 801)
     yy = sol.sol(s)
