@@ -226,7 +226,10 @@ def check(file: Path = typer.Argument(..., help="a target CSV, a study TOML or a
         out.print(escape(f"{file}: design with {len(d.elements)} element(s): {d.topology()}"))
         return
     st = load_study(file)
-    out.print(f"{file}: study {st.name!r}: target {st.target_path} ({st.target.x_mm.size} points, stroke "
+    words = {"scale_force": "forces", "scale_stroke": "displacements"}
+    scaled = ", ".join(f"{words[k]} x{v:g}" for k, v in st.raw["target"].items() if k in words)
+    out.print(f"{file}: study {st.name!r}: target {st.target_path}{f' ({scaled})' if scaled else ''} "
+              f"({st.target.x_mm.size} points, stroke "
               f"{st.target.stroke_mm:g} mm); {len(st.search.kinds)} kinds, {len(st.search.materials)} materials, "
               f"up to {st.search.max_elements} elements")
 

@@ -23,12 +23,16 @@ from springsynth.model.materials import Material
 from springsynth.model.numbers import is_finite_number
 from springsynth.model.study import DEFAULTS, Envelope, Limits, SearchOptions, Study
 from springsynth.model.suggest import unknown_key_message
+from springsynth.model.target import Target
 
 __all__ = ["load_study", "study_from_mapping", "apply_overrides"]
 
 
+#: largest accepted target.scale_force / target.scale_stroke (a larger factor is a typo, not a product family)
+MAX_SCALE = 1e6
+
 _SCHEMA: dict[str, set[str] | None] = {
-    "name": None, "description": None, "target": {"file"},
+    "name": None, "description": None, "target": {"file", "scale_force", "scale_stroke"},
     "envelope": {"length_mm", "width_mm", "height_mm"},
     "limits": {"stress_ratio", "min_thickness_mm", "max_mass_g", "max_error_pct"},
     "search": {"elements", "materials", "max_elements", "max_count", "population", "generations", "seed",
@@ -60,7 +64,7 @@ def study_from_mapping(doc: Mapping[str, Any], *, where: str, base_dir: Path) ->
     name = doc.get("name", Path(where).stem)
     if not isinstance(name, str) or not name.strip():
         raise InputError(f"name must be a non-empty string, got {name!r}", where=where)
-    return Study(name=name, target=load_target(tpath), envelope=_envelope(doc["envelope"], where),
+    return Study(name=name, target=_target(doc["target"], tpath, where), envelope=_envelope(doc["envelope"], where),
                  limits=_limits(doc.get("limits", {}), where),
                  search=_search(doc.get("search", {}), resolve_materials(doc.get("materials"), where), where),
                  raw=copy.deepcopy(dict(doc)), path=None, target_path=tpath)
@@ -95,6 +99,15 @@ def _target_path(section: Mapping[str, Any], where: str, base_dir: Path) -> Path
         raise InputError(f"target file {tfile!r} is a folder ({tpath}); give the path of a target CSV",
                          where=f"{where} [target].file")
     return tpath
+
+
+def _target(section: Mapping[str, Any], tpath: Path, where: str) -> Target:
+    """The target curve, scaled for product families and sweeps: forces (band included) times
+    ``scale_force``, displacements times ``scale_stroke``."""
+    target = load_target(tpath)
+    scale = {k: _num(section.get(k, 1.0), f"{where} [target].{k}", lo=0.0, hi=MAX_SCALE)
+             for k in ("scale_force", "scale_stroke")}
+    return target.scaled(force=scale["scale_force"], stroke=scale["scale_stroke"])
 
 
 def _envelope(env: Mapping[str, Any], where: str) -> Envelope:

@@ -2,6 +2,7 @@
 
 from __future__ import annotations
 
+import math
 from dataclasses import dataclass, field
 
 import numpy as np
@@ -84,6 +85,31 @@ class Target:
     def scale_N(self) -> float:
         """``max |F_target|``, the normaliser of ``curve_error_pct``."""
         return float(np.max(np.abs(self.force_N)))
+
+    def scaled(self, force: float = 1.0, stroke: float = 1.0) -> "Target":
+        """The same curve with every force (band included) times ``force`` and every
+        displacement times ``stroke``: one target serves a product family or a sweep.
+
+        Parameters
+        ----------
+        force, stroke : float
+            Positive, finite multipliers (dimensionless).
+
+        Returns
+        -------
+        Target
+            A new target; weights, name and notices are kept. The curve error of a design
+            against it is relative to the scaled ``max |F_target|``.
+        """
+        for v, nm in ((force, "force"), (stroke, "stroke")):
+            if not (isinstance(v, (int, float)) and not isinstance(v, bool) and math.isfinite(v) and v > 0):
+                raise InputError(f"scale_{nm} must be a positive number, got {v!r}", where=self.name)
+        if force == 1 and stroke == 1:
+            return self
+        lo = None if self.force_lo_N is None else self.force_lo_N * force
+        hi = None if self.force_hi_N is None else self.force_hi_N * force
+        return Target(self.x_mm * stroke, self.force_N * force, lo, hi, self.weight, name=self.name,
+                      notices=self.notices)
 
     def curve_error_pct(self, force_N: np.ndarray) -> np.ndarray:
         """``100 RMS_w(F - F_target) / max|F_target|`` for forces of shape (n, m) -> (n,)."""
