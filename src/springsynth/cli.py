@@ -411,6 +411,8 @@ def batch(
     """
     from . import batch as B
 
+    if scheduler is not None and workers is not None:
+        raise InputError("--workers sizes the local cluster; a scheduler's workers are started by hand", where="batch")
     if resume is not None:
         if studies or out_dir is not None or seeds is not None or vary or set_:
             raise InputError("--resume continues the batch as it was planned; drop the studies, --out, --seeds, "
@@ -424,8 +426,6 @@ def batch(
         varies = [B.parse_vary(v) for v in vary]
         plan = B.plan_from_files(studies, seeds=B.parse_seeds(seeds), varies=varies, settings=set_)
         folder = B.start_folder(out_dir, plan)
-    if scheduler is not None and workers is not None:
-        raise InputError("--workers sizes the local cluster; a scheduler's workers are started by hand", where="batch")
     outcome = _batch_with_progress(B, plan, folder, scheduler, workers)
     frame = B.write_summary(folder, plan, outcome.rows)
     _finish_batch(frame, folder, outcome)

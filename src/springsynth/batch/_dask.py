@@ -87,7 +87,7 @@ def execute(runs: Sequence[RunSpec], out_dir: Path, *, scheduler: str | None = N
     cluster = None
     if scheduler is None:
         cluster = LocalCluster(n_workers=local_workers(len(runs), workers), threads_per_worker=1, processes=True,
-                               dashboard_address=None, silence_logs=logging.ERROR)
+                               dashboard_address=None, silence_logs=logging.CRITICAL)
         client = Client(cluster, set_as_default=False)
     else:
         client = _connect(scheduler)

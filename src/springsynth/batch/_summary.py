@@ -93,8 +93,12 @@ def _variant_axis(frame: pd.DataFrame, keys: tuple[str, ...]):
     if len(keys) == 1:
         value = dict(zip(var, frame[keys[0]]))
         return names, np.array([value[n] for n in names], float), keys[0], True
-    label = "variant (" + " x ".join(keys) + ")" if keys else "variant"
-    return names, np.arange(len(names), dtype=float), label, False
+    return names, np.arange(len(names), dtype=float), ", ".join(keys) if keys else "variant", False
+
+
+def _tick_text(name: str) -> str:
+    """``scale_force=1,length_mm=20`` -> ``1, 20`` (the keys are in the axis label)."""
+    return ", ".join(p.split("=", 1)[-1] for p in name.split(",")) if "=" in name else name
 
 
 def _colours(n: int, numeric: bool) -> list:
@@ -121,13 +125,18 @@ def _spread(ax, frame, names, x, metric, colour):
             ax.vlines(xi, v.min(), v.max(), color=colour, lw=1.0, alpha=0.7, zorder=2, label="range over seeds")
     ax.plot(x, med, "-o", color=P.INK, ms=4, lw=1.2, zorder=4, label="median over seeds")
     ax.margins(x=0.12 if len(x) > 1 else 0.6, y=0.15)
+    if not np.isfinite(med).any():
+        ax.text(0.5, 0.5, "no finished run with a feasible design", ha="center", va="center", transform=ax.transAxes,
+                color=P.MUTED)
+        ax.set_yticks([])
 
 
 def _axis_ticks(ax, names, x, label, numeric):
     if not numeric:
+        ticks = [_tick_text(n) for n in names]
+        tilt = sum(len(t) for t in ticks) > 60
         ax.set_xticks(x)
-        ax.set_xticklabels(names, rotation=25 if len(names) > 2 else 0, ha="right" if len(names) > 2 else "center",
-                           fontsize=7.5)
+        ax.set_xticklabels(ticks, rotation=30 if tilt else 0, ha="right" if tilt else "center", fontsize=8)
     ax.set_xlabel(label)
 
 
@@ -146,6 +155,8 @@ def _fronts_panel(ax, fronts, study, names, colours, numeric):
     if not drawn:
         ax.text(0.5, 0.5, "no feasible design in any run", ha="center", va="center", transform=ax.transAxes,
                 color=P.MUTED)
+        ax.set_xticks([])
+        ax.set_yticks([])
         return
     if P._wants_log(np.concatenate(allF)[:, 2]):
         ax.set_yscale("log")
@@ -195,7 +206,8 @@ def plot_summary(frame: pd.DataFrame, fronts: Mapping[tuple[str, str], np.ndarra
             ax.set_title(f"{study}: {ylab.split(' [')[0]} ({hint})", fontsize=9.5)
         handles, labels = row[0].get_legend_handles_labels()
         uniq = dict(zip(labels, handles))
-        row[0].legend(uniq.values(), uniq.keys(), fontsize=7.5, loc="best")
+        if "each seed" in uniq:
+            row[0].legend(uniq.values(), uniq.keys(), fontsize=7.5, loc="best")
         _fronts_panel(row[2], fronts, study, names, colours, numeric)
         counts = sub["status"].value_counts()
         bits = [f"{counts[s]} {s.replace('_', ' ')}" for s in counts.index]
