@@ -409,7 +409,7 @@ def batch(
 
     Ctrl-C stops the batch and keeps the finished run folders (exit 130); `--resume DIR` makes the rest.
     """
-    from . import batch as B
+    from springsynth import batch as B
 
     if scheduler is not None and workers is not None:
         raise InputError("--workers sizes the local cluster; a scheduler's workers are started by hand", where="batch")
@@ -434,6 +434,8 @@ def batch(
 def _batch_with_progress(B, plan, folder, scheduler, workers):
     from rich.progress import BarColumn, MofNCompleteColumn, Progress, TextColumn, TimeElapsedColumn
 
+    from springsynth._allocator import keep_temporaries_on_heap
+
     todo = len(plan.runs) - len(B.finished_rows(folder, plan))
     where = f"scheduler {scheduler}" if scheduler else f"{B.local_workers(todo, workers)} local workers"
     out.print(f"batch of {len(plan.runs)} runs into {folder}: {todo} to make on {where}")
@@ -446,7 +448,8 @@ def _batch_with_progress(B, plan, folder, scheduler, workers):
             running = p.running if p.done < p.total else 0
             prog.update(bar, completed=p.done, info=f"{running} running  {p.failed} failed  ({p.workers} workers)")
 
-        return B.run_batch(plan, folder, scheduler=scheduler, workers=workers, on_progress=on_progress)
+        return B.run_batch(plan, folder, scheduler=scheduler, workers=workers, on_progress=on_progress,
+                           worker_setup=keep_temporaries_on_heap)
 
 
 def _finish_batch(frame, folder, outcome):

@@ -21,9 +21,9 @@ import pytest
 from typer.testing import CliRunner
 
 import springsynth as ss
-from springsynth._runio import read_run
 from springsynth.batch import MARKER, RunSpec, plan_from_files, run_batch, run_one, start_folder, write_summary
 from springsynth.cli import app
+from springsynth.io.runfolder import read_run
 from tests.conftest import write_study, write_target
 
 # the test's own task wrapper travels to the workers by value

@@ -5,10 +5,10 @@ import json
 import pytest
 from typer.testing import CliRunner
 
-from springsynth._errors import InputError
 from springsynth.batch import Plan, RunSpec, build_plan, parse_seeds, parse_vary, plan_from_files
 from springsynth.batch._plan import StudyEntry, Vary, check_vary_keys, safe_name, variant_name
 from springsynth.cli import app
+from springsynth.model.errors import InputError
 
 runner = CliRunner()
 

@@ -23,11 +23,19 @@ from dataclasses import dataclass
 from pathlib import Path
 from typing import Callable
 
-from ._dask import BatchProgress, execute, local_workers
-from ._files import MARKER, PLAN_FILE, changed_studies, finished_rows, plan_from_files, read_plan, start_folder
-from ._plan import Plan, RunSpec, Vary, build_plan, parse_seeds, parse_vary
-from ._summary import plot_summary, summary_frame, write_summary
-from ._task import STATUSES, run_one
+from springsynth.batch._dask import BatchProgress, execute, local_workers
+from springsynth.batch._files import (
+    MARKER,
+    PLAN_FILE,
+    changed_studies,
+    finished_rows,
+    plan_from_files,
+    read_plan,
+    start_folder,
+)
+from springsynth.batch._plan import Plan, RunSpec, Vary, build_plan, parse_seeds, parse_vary
+from springsynth.batch._summary import plot_summary, summary_frame, write_summary
+from springsynth.batch._task import STATUSES, run_one
 
 __all__ = ["BatchOutcome", "BatchProgress", "MARKER", "PLAN_FILE", "Plan", "RunSpec", "STATUSES", "Vary",
            "build_plan", "changed_studies", "local_workers", "parse_seeds", "parse_vary", "plan_from_files",
@@ -60,7 +68,8 @@ class BatchOutcome:
 
 def run_batch(plan: Plan, out_dir: Path, *, scheduler: str | None = None, workers: int | None = None,
               retries: int = 2, on_progress: Callable[[BatchProgress], None] | None = None,
-              task: Callable[[dict, str], dict] = run_one) -> BatchOutcome:
+              task: Callable[[dict, str], dict] = run_one,
+              worker_setup: Callable[[], object] | None = None) -> BatchOutcome:
     """Make every run of ``plan`` that ``out_dir`` does not hold complete yet.
 
     Parameters
@@ -77,6 +86,8 @@ def run_batch(plan: Plan, out_dir: Path, *, scheduler: str | None = None, worker
         Called with a :class:`BatchProgress` as runs start and finish.
     task : callable
         What each task calls, ``task(spec, out_dir) -> row`` (default :func:`run_one`).
+    worker_setup : callable, optional
+        Called once in every worker process as it starts.
     """
     import time
 
@@ -86,7 +97,8 @@ def run_batch(plan: Plan, out_dir: Path, *, scheduler: str | None = None, worker
     rows, interrupted = dict(done), False
     if todo:
         new, interrupted = execute(todo, Path(out_dir), scheduler=scheduler, workers=workers, retries=retries,
-                                   already_done=len(done), total=len(plan.runs), on_progress=on_progress, task=task)
+                                   already_done=len(done), total=len(plan.runs), on_progress=on_progress, task=task,
+                                   worker_setup=worker_setup)
         rows.update(new)
         if interrupted:  # runs that finished while the batch was being stopped
             for folder, row in finished_rows(out_dir, plan).items():

@@ -23,9 +23,9 @@ from dataclasses import dataclass
 from pathlib import Path
 from typing import Any, Callable, Sequence
 
-from .._errors import InputError
-from ._plan import RunSpec
-from ._task import row_for, run_one
+from springsynth.batch._plan import RunSpec
+from springsynth.batch._task import row_for, run_one
+from springsynth.model.errors import InputError
 
 __all__ = ["BatchProgress", "execute", "local_workers"]
 
@@ -54,7 +54,8 @@ def local_workers(n_runs: int, workers: int | None = None) -> int:
 def execute(runs: Sequence[RunSpec], out_dir: Path, *, scheduler: str | None = None, workers: int | None = None,
             retries: int = 2, already_done: int = 0, total: int | None = None,
             on_progress: Callable[[BatchProgress], None] | None = None,
-            task: Callable[[dict, str], dict] = run_one, poll_s: float = 0.25) -> tuple[dict[str, dict], bool]:
+            task: Callable[[dict, str], dict] = run_one, worker_setup: Callable[[], object] | None = None,
+            poll_s: float = 0.25) -> tuple[dict[str, dict], bool]:
     """Run ``runs`` as Dask tasks; return (run folder -> summary row, interrupted).
 
     Parameters
@@ -74,6 +75,9 @@ def execute(runs: Sequence[RunSpec], out_dir: Path, *, scheduler: str | None = N
         Called with a :class:`BatchProgress` whenever the counts change.
     task : callable
         ``task(spec, out_dir) -> row``; :func:`run_one` (others serve tests and wrappers).
+    worker_setup : callable, optional
+        Called once in every worker process, restarted ones included (the command line
+        tunes the memory allocator there as it does for `springsynth run`).
 
     Notes
     -----
@@ -92,12 +96,25 @@ def execute(runs: Sequence[RunSpec], out_dir: Path, *, scheduler: str | None = N
     else:
         client = _connect(scheduler)
     try:
+        if worker_setup is not None:
+            client.register_plugin(_Setup(worker_setup), name="springsynth-setup")
         return _wait(client, runs, out, retries=retries, already_done=already_done, total=total,
                      on_progress=on_progress, task=task, poll_s=poll_s)
     finally:
         client.close()
         if cluster is not None:
             cluster.close()
+
+
+def _Setup(fn: Callable[[], object]):
+    """A Dask worker plugin that calls ``fn`` in each worker as it starts."""
+    from distributed.diagnostics.plugin import WorkerPlugin
+
+    class Setup(WorkerPlugin):
+        def setup(self, worker):
+            fn()
+
+    return Setup()
 
 
 def _connect(address: str):

@@ -19,11 +19,11 @@ from datetime import datetime
 from pathlib import Path
 from typing import Sequence
 
-from .. import __version__
-from .._errors import InputError
-from .._fileio import write_text_atomic
-from .._study import load_study
-from ._plan import Plan, StudyEntry, Vary, build_plan, check_vary_keys, safe_name
+from springsynth.batch._plan import Plan, StudyEntry, Vary, build_plan, check_vary_keys, safe_name
+from springsynth.io.files import write_text_atomic
+from springsynth.io.study_toml import load_study
+from springsynth.model.errors import InputError
+from springsynth.model.version import __version__
 
 __all__ = ["PLAN_FILE", "MARKER", "plan_from_files", "start_folder", "read_plan", "finished_rows", "read_marker",
            "changed_studies"]

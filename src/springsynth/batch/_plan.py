@@ -16,8 +16,9 @@ import re
 from dataclasses import dataclass
 from typing import Any, Mapping, Sequence
 
-from .._errors import InputError
-from .._study import DEFAULTS, apply_overrides
+from springsynth.io.study_toml import apply_overrides
+from springsynth.model.errors import InputError
+from springsynth.model.study import DEFAULTS
 
 __all__ = ["Vary", "RunSpec", "StudyEntry", "Plan", "parse_seeds", "parse_vary", "check_vary_keys",
            "build_plan", "safe_name", "MAX_RUNS"]

@@ -18,10 +18,11 @@ from typing import Mapping
 import numpy as np
 import pandas as pd
 
-from .. import _plots as P
-from .._fileio import write_text_atomic
-from ._plan import Plan
-from ._task import row_for
+from springsynth.batch._plan import Plan
+from springsynth.batch._task import row_for
+from springsynth.io.files import save_figure, write_text_atomic
+from springsynth.model.numbers import thousands
+from springsynth.report import style as P
 
 __all__ = ["summary_frame", "read_fronts", "plot_summary", "write_summary"]
 
@@ -140,6 +141,19 @@ def _axis_ticks(ax, names, x, label, numeric):
     ax.set_xlabel(label)
 
 
+def _size_axis(ax, size_mm3: np.ndarray) -> None:
+    """Sizes as plain numbers (``2 000``), on a log axis when they span more than about a decade."""
+    from matplotlib.ticker import FuncFormatter, LogLocator, NullFormatter
+
+    plain = FuncFormatter(lambda v, _pos=None: thousands(v) if abs(v) >= 1 else f"{v:g}")
+    v = size_mm3[np.isfinite(size_mm3) & (size_mm3 > 0)]
+    if v.size > 1 and math.log10(v.max() / v.min()) > 1.3:
+        ax.set_yscale("log")
+        ax.yaxis.set_major_locator(LogLocator(base=10, subs=(1.0, 2.0, 5.0)))
+        ax.yaxis.set_minor_formatter(NullFormatter())
+    ax.yaxis.set_major_formatter(plain)
+
+
 def _fronts_panel(ax, fronts, study, names, colours, numeric):
     drawn = False
     allF = [fronts[(study, n)] for n in names if (study, n) in fronts and len(fronts[(study, n)])]
@@ -158,11 +172,7 @@ def _fronts_panel(ax, fronts, study, names, colours, numeric):
         ax.set_xticks([])
         ax.set_yticks([])
         return
-    if P._wants_log(np.concatenate(allF)[:, 2]):
-        ax.set_yscale("log")
-        P._plain_log_axis(ax.yaxis)
-    else:
-        ax.yaxis.set_major_formatter(P._thousands)
+    _size_axis(ax, np.concatenate(allF)[:, 2])
     ax.set_xlabel("curve error [%]\nline: the best error-size trade-offs of all seeds; faint: other Pareto designs "
                   "(kept for their stress ratio)", fontsize=8.5)
     ax.set_ylabel("size [mm³]")
@@ -170,7 +180,7 @@ def _fronts_panel(ax, fronts, study, names, colours, numeric):
               ncol=2 if len(names) > 8 else 1)
 
 
-@P._styled
+@P.styled
 def plot_summary(frame: pd.DataFrame, fronts: Mapping[tuple[str, str], np.ndarray], vary_keys: tuple[str, ...]):
     """Best error and hypervolume across variants (seeds as a spread) and the variants' fronts overlaid.
 
@@ -222,5 +232,5 @@ def write_summary(out_dir: Path, plan: Plan, rows: Mapping[str, Mapping]) -> pd.
     out_dir = Path(out_dir)
     frame = summary_frame(plan, rows)
     write_text_atomic(out_dir / "summary.csv", frame.to_csv(index=False, float_format="%.6g", lineterminator="\n"))
-    P.save(plot_summary(frame, read_fronts(out_dir, frame), plan.vary_keys), out_dir / "summary.png")
+    save_figure(plot_summary(frame, read_fronts(out_dir, frame), plan.vary_keys), out_dir / "summary.png")
     return frame

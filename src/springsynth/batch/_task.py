@@ -18,15 +18,14 @@ from typing import Any, Mapping
 
 import numpy as np
 
-from .._allocator import keep_temporaries_on_heap
-from .._errors import InputError
-from .._fileio import write_text_atomic
-from .._runio import write_run
-from .._search import hypervolume
-from .._study import load_study
-from .._synthesis import Synthesis, synthesize
-from ._files import MARKER, read_marker
-from ._plan import RunSpec
+from springsynth.batch._files import MARKER, read_marker
+from springsynth.batch._plan import RunSpec
+from springsynth.io.files import write_text_atomic
+from springsynth.io.runfolder import write_run
+from springsynth.io.study_toml import load_study
+from springsynth.model.errors import InputError
+from springsynth.search.metrics import hypervolume
+from springsynth.search.synthesis import Synthesis, synthesize
 
 __all__ = ["run_one", "run_metrics", "row_for", "STATUSES"]
 
@@ -89,7 +88,6 @@ def run_one(spec: Mapping[str, Any], out_dir: str) -> dict[str, Any]:
         with status ``bad_input`` and the message; other exceptions propagate, so Dask
         retries the task.
     """
-    keep_temporaries_on_heap()
     run = RunSpec.from_dict(spec)
     folder = Path(out_dir) / run.folder
     done = read_marker(folder)
