@@ -413,6 +413,8 @@ def batch(
 
     if scheduler is not None and workers is not None:
         raise InputError("--workers sizes the local cluster; a scheduler's workers are started by hand", where="batch")
+    if scheduler is not None:
+        B.check_scheduler(scheduler)
     if resume is not None:
         if studies or out_dir is not None or seeds is not None or vary or set_:
             raise InputError("--resume continues the batch as it was planned; drop the studies, --out, --seeds, "

@@ -141,6 +141,8 @@ def test_plan_from_files_checks_the_studies(linear_study):
     (["--vary", "target.file=1:2:2"], "is not a number"),
     (["--seeds", "0"], "N must be 1"),
     (["--set", "limits.stress_ration=0.5"], "did you mean 'stress_ratio'"),
+    (["--scheduler", "nonsense"], "not a scheduler address (missing port number"),
+    (["--scheduler", "tcp://127.0.0.1:8786", "--workers", "2"], "--workers sizes the local cluster"),
 ])
 def test_batch_command_bad_options_exit_2_with_one_line(linear_study, tmp_path, args, needle):
     out = tmp_path / "b"

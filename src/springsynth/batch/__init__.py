@@ -23,7 +23,7 @@ from dataclasses import dataclass
 from pathlib import Path
 from typing import Callable
 
-from springsynth.batch._dask import BatchProgress, execute, local_workers
+from springsynth.batch._dask import BatchProgress, check_scheduler, execute, local_workers
 from springsynth.batch._files import (
     MARKER,
     PLAN_FILE,
@@ -38,8 +38,9 @@ from springsynth.batch._summary import plot_summary, summary_frame, write_summar
 from springsynth.batch._task import STATUSES, run_one
 
 __all__ = ["BatchOutcome", "BatchProgress", "MARKER", "PLAN_FILE", "Plan", "RunSpec", "STATUSES", "Vary",
-           "build_plan", "changed_studies", "local_workers", "parse_seeds", "parse_vary", "plan_from_files",
-           "plot_summary", "read_plan", "run_batch", "run_one", "start_folder", "summary_frame", "write_summary"]
+           "build_plan", "changed_studies", "check_scheduler", "local_workers", "parse_seeds", "parse_vary",
+           "plan_from_files", "plot_summary", "read_plan", "run_batch", "run_one", "start_folder", "summary_frame",
+           "write_summary"]
 
 
 @dataclass(frozen=True)

@@ -27,7 +27,7 @@ from springsynth.batch._plan import RunSpec
 from springsynth.batch._task import row_for, run_one
 from springsynth.model.errors import InputError
 
-__all__ = ["BatchProgress", "execute", "local_workers"]
+__all__ = ["BatchProgress", "execute", "local_workers", "check_scheduler"]
 
 
 @dataclass(frozen=True)
@@ -119,12 +119,28 @@ def _Setup(fn: Callable[[], object]):
 
 def _connect(address: str):
     from distributed import Client
+    from distributed.comm.addressing import parse_address, parse_host_port
 
+    where = f"--scheduler {address}"
+    try:
+        scheme, location = parse_address(address)
+        parse_host_port(location)
+    except ValueError as e:
+        raise InputError(f"not a scheduler address ({e}); give it as `dask scheduler` prints it, e.g. "
+                         f"tcp://192.168.1.20:8786", where=where) from None
+    if scheme not in ("tcp", "tls", "ws", "wss", "ucx", "inproc"):
+        raise InputError(f"unknown protocol {scheme!r}; give the address as `dask scheduler` prints it, e.g. "
+                         f"tcp://192.168.1.20:8786", where=where)
     try:
         return Client(address, timeout="15s", set_as_default=False)
     except (OSError, TimeoutError, ValueError) as e:
         raise InputError(f"cannot reach a Dask scheduler there ({type(e).__name__}: {e}); start one with "
-                         f"`dask scheduler` and pass the address it prints", where=f"--scheduler {address}") from None
+                         f"`dask scheduler` and pass the address it prints", where=where) from None
+
+
+def check_scheduler(address: str) -> None:
+    """Raise :class:`InputError` unless a Dask scheduler answers at ``address`` (before anything is written)."""
+    _connect(address).close()
 
 
 def _wait(client, runs, out, *, retries, already_done, total, on_progress, task, poll_s):
