@@ -450,8 +450,32 @@ def _batch_with_progress(B, plan, folder, scheduler, workers):
             running = p.running if p.done < p.total else 0
             prog.update(bar, completed=p.done, info=f"{running} running  {p.failed} failed  ({p.workers} workers)")
 
-        return B.run_batch(plan, folder, scheduler=scheduler, workers=workers, on_progress=on_progress,
-                           worker_setup=keep_temporaries_on_heap)
+        with _term_as_interrupt():
+            return B.run_batch(plan, folder, scheduler=scheduler, workers=workers, on_progress=on_progress,
+                               worker_setup=keep_temporaries_on_heap)
+
+
+class _term_as_interrupt:
+    """Context manager: SIGTERM stops a batch as Ctrl-C does (summary written, local workers shut down)."""
+
+    def __enter__(self):
+        import signal
+
+        def handler(signum, frame):
+            raise KeyboardInterrupt
+
+        try:
+            self.old = signal.signal(signal.SIGTERM, handler)
+        except ValueError:  # not the main thread
+            self.old = None
+        return self
+
+    def __exit__(self, *exc):
+        import signal
+
+        if self.old is not None:
+            signal.signal(signal.SIGTERM, self.old)
+        return False
 
 
 def _finish_batch(frame, folder, outcome):
