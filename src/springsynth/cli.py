@@ -391,18 +391,13 @@ def rerun(
 def batch(
     studies: Optional[List[Path]] = typer.Argument(None, help="study TOML files"),
     out_dir: Optional[Path] = typer.Option(None, "--out", help="batch folder to create (new or empty)"),
-    seeds: Optional[str] = typer.Option(None, "--seeds", help="N: seeds 1..N; or a list 1,4,7 (7, for one seed); "
-                                                              "default each study's own seed"),
-    vary: List[str] = typer.Option([], "--vary", help="KEY=START:STOP:COUNT or KEY=V1,V2,..., any numeric key "
-                                                      "--set accepts, e.g. target.scale_force=0.5:2:4; repeat it "
-                                                      "for every combination"),
-    set_: List[str] = typer.Option([], "--set", help="a setting for every run, e.g. search.population=60 (repeatable)"),
-    scheduler: Optional[str] = typer.Option(None, "--scheduler", help="address of a running Dask scheduler, e.g. "
-                                                                      "tcp://host:8786 (default: a local cluster)"),
-    workers: Optional[int] = typer.Option(None, "--workers", min=1, help="local cluster: worker processes "
-                                                                         "(default one per core)"),
-    resume: Optional[Path] = typer.Option(None, "--resume", help="an interrupted batch folder: make only the runs "
-                                                                 "it is missing"),
+    seeds: Optional[str] = typer.Option(None, "--seeds", help="N: seeds 1..N; or a list 1,4,7 (7, for one seed)"),
+    vary: List[str] = typer.Option([], "--vary", help="KEY=START:STOP:COUNT or KEY=V1,V2,... (any numeric key "
+                                   "--set accepts); repeated: every combination"),
+    set_: List[str] = typer.Option([], "--set", help="a setting for every run, e.g. search.population=60"),
+    scheduler: Optional[str] = typer.Option(None, "--scheduler", help="a running Dask scheduler, tcp://host:8786"),
+    workers: Optional[int] = typer.Option(None, "--workers", min=1, help="local worker processes (default: cores)"),
+    resume: Optional[Path] = typer.Option(None, "--resume", help="a stopped batch folder: make the runs it misses"),
 ):
     """Many independent runs (studies x --vary values x seeds) as Dask tasks, each writing its own run folder
     DIR/<study>/<variant>/seed-<n>; summary.csv and summary.png across them.
@@ -415,25 +410,18 @@ def batch(
         raise InputError("--workers sizes the local cluster; a scheduler's workers are started by hand", where="batch")
     if scheduler is not None:
         B.check_scheduler(scheduler)
-    if resume is not None:
-        if studies or out_dir is not None or seeds is not None or vary or set_:
-            raise InputError("--resume continues the batch as it was planned; drop the studies, --out, --seeds, "
-                             "--vary and --set", where="batch")
-        folder, plan = resume, B.read_plan(resume)
-        for p in B.changed_studies(folder, plan):
-            err.print(f"notice: {p} changed since the batch started; the runs made now use it as it is")
-    else:
-        if not studies or out_dir is None:
-            raise InputError("give one or more STUDY files and --out DIR (or --resume DIR)", where="batch")
-        varies = [B.parse_vary(v) for v in vary]
-        plan = B.plan_from_files(studies, seeds=B.parse_seeds(seeds), varies=varies, settings=set_)
-        folder = B.start_folder(out_dir, plan)
+    folder, plan, notices = B.open_batch(studies or [], out_dir, seeds=seeds, vary=vary, settings=set_, resume=resume)
+    for n in notices:
+        err.print(f"notice: {n}")
     outcome = _batch_with_progress(B, plan, folder, scheduler, workers)
     frame = B.write_summary(folder, plan, outcome.rows)
-    _finish_batch(frame, folder, outcome)
+    _finish_batch(B, frame, folder, outcome)
 
 
 def _batch_with_progress(B, plan, folder, scheduler, workers):
+    import signal
+    import threading
+
     from rich.progress import BarColumn, MofNCompleteColumn, Progress, TextColumn, TimeElapsedColumn
 
     from springsynth._allocator import keep_temporaries_on_heap
@@ -443,6 +431,8 @@ def _batch_with_progress(B, plan, folder, scheduler, workers):
     out.print(f"batch of {len(plan.runs)} runs into {folder}: {todo} to make on {where}")
     cols = [TextColumn("runs done"), MofNCompleteColumn(), BarColumn(), TextColumn("{task.fields[info]}"),
             TimeElapsedColumn()]
+    main = threading.current_thread() is threading.main_thread()
+    old = signal.signal(signal.SIGTERM, signal.default_int_handler) if main else None  # SIGTERM acts as Ctrl-C
     with Progress(*cols, console=err, transient=False) as prog:
         bar = prog.add_task("batch", total=len(plan.runs), info="starting workers")
 
@@ -450,47 +440,23 @@ def _batch_with_progress(B, plan, folder, scheduler, workers):
             running = p.running if p.done < p.total else 0
             prog.update(bar, completed=p.done, info=f"{running} running  {p.failed} failed  ({p.workers} workers)")
 
-        with _term_as_interrupt():
+        try:
             return B.run_batch(plan, folder, scheduler=scheduler, workers=workers, on_progress=on_progress,
                                worker_setup=keep_temporaries_on_heap)
+        finally:
+            if main:
+                signal.signal(signal.SIGTERM, old)
 
 
-class _term_as_interrupt:
-    """Context manager: SIGTERM stops a batch as Ctrl-C does (summary written, local workers shut down)."""
-
-    def __enter__(self):
-        import signal
-
-        def handler(signum, frame):
-            raise KeyboardInterrupt
-
-        try:
-            self.old = signal.signal(signal.SIGTERM, handler)
-        except ValueError:  # not the main thread
-            self.old = None
-        return self
-
-    def __exit__(self, *exc):
-        import signal
-
-        if self.old is not None:
-            signal.signal(signal.SIGTERM, self.old)
-        return False
-
-
-def _finish_batch(frame, folder, outcome):
+def _finish_batch(B, frame, folder, outcome):
     counts = frame["status"].value_counts()
     t = Table(title=escape(f"{len(frame)} runs in {folder} ({outcome.skipped} already complete, {outcome.ran} "
                            f"made now, {outcome.wall_time_s:.0f} s)"), title_justify="left")
     for c in ("study", "variant", "runs", "best error % (median, min)", "hypervolume (median)", "status"):
         t.add_column(c, overflow="fold")
-    frame = frame.assign(variant=frame["folder"].str.split("/").str[1])
-    for (study, variant), g in frame.groupby(["study", "variant"], sort=False):
-        e = g["best_error_pct"].dropna()
-        hv = g["hypervolume"].dropna()
-        st = ", ".join(f"{n} {s}" for s, n in g["status"].value_counts().items())
-        t.add_row(escape(study), escape(variant), str(len(g)), f"{e.median():.3g}, {e.min():.3g}" if len(e) else "-",
-                  f"{hv.median():.3g}" if len(hv) else "-", st)
+    for r in B.variant_table(frame).itertuples():
+        t.add_row(escape(r.study), escape(r.variant), str(r.runs), f"{r.best_error_median:.3g}, {r.best_error_min:.3g}",
+                  f"{r.hypervolume_median:.3g}", r.statuses)
     out.print(t)
     out.print(f"wrote {folder / 'summary.csv'} and {folder / 'summary.png'}")
     for _, r in frame[~frame["status"].isin(["ok", "infeasible", "interrupted"])].iterrows():

@@ -29,18 +29,19 @@ from springsynth.batch._files import (
     PLAN_FILE,
     changed_studies,
     finished_rows,
+    open_batch,
     plan_from_files,
     read_plan,
     start_folder,
 )
 from springsynth.batch._plan import Plan, RunSpec, Vary, build_plan, parse_seeds, parse_vary
-from springsynth.batch._summary import plot_summary, summary_frame, write_summary
+from springsynth.batch._summary import plot_summary, summary_frame, variant_table, write_summary
 from springsynth.batch._task import STATUSES, run_one
 
 __all__ = ["BatchOutcome", "BatchProgress", "MARKER", "PLAN_FILE", "Plan", "RunSpec", "STATUSES", "Vary",
-           "build_plan", "changed_studies", "check_scheduler", "local_workers", "parse_seeds", "parse_vary",
-           "plan_from_files", "plot_summary", "read_plan", "run_batch", "run_one", "start_folder", "summary_frame",
-           "write_summary"]
+           "build_plan", "changed_studies", "check_scheduler", "local_workers", "open_batch", "parse_seeds",
+           "parse_vary", "plan_from_files", "plot_summary", "read_plan", "run_batch", "run_one", "start_folder",
+           "summary_frame", "variant_table", "write_summary"]
 
 
 @dataclass(frozen=True)

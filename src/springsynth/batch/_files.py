@@ -19,13 +19,22 @@ from datetime import datetime
 from pathlib import Path
 from typing import Sequence
 
-from springsynth.batch._plan import Plan, StudyEntry, Vary, build_plan, check_vary_keys, safe_name
+from springsynth.batch._plan import (
+    Plan,
+    StudyEntry,
+    Vary,
+    build_plan,
+    check_vary_keys,
+    parse_seeds,
+    parse_vary,
+    safe_name,
+)
 from springsynth.io.files import write_text_atomic
 from springsynth.io.study_toml import load_study
 from springsynth.model.errors import InputError
 from springsynth.model.version import __version__
 
-__all__ = ["PLAN_FILE", "MARKER", "plan_from_files", "start_folder", "read_plan", "finished_rows", "read_marker",
+__all__ = ["PLAN_FILE", "MARKER", "open_batch", "plan_from_files", "start_folder", "read_plan", "finished_rows", "read_marker",
            "changed_studies"]
 
 PLAN_FILE = "batch.json"
@@ -46,6 +55,24 @@ def plan_from_files(paths: Sequence[Path], *, seeds: Sequence[int] | None, varie
         docs[str(p)] = st.raw
     check_vary_keys(varies, docs, settings)
     return build_plan(entries, seeds=seeds, varies=varies, settings=settings)
+
+
+def open_batch(studies: Sequence[Path], out_dir: Path | None, *, seeds: str | None, vary: Sequence[str],
+               settings: Sequence[str], resume: Path | None) -> tuple[Path, Plan, list[str]]:
+    """The batch folder and plan from the command's options: a new batch (studies and ``out_dir``,
+    folder created, plan written) or ``resume`` (the plan stored there). Also returns notices."""
+    if resume is not None:
+        if studies or out_dir is not None or seeds is not None or vary or settings:
+            raise InputError("--resume continues the batch as it was planned; drop the studies, --out, --seeds, "
+                             "--vary and --set", where="batch")
+        plan = read_plan(resume)
+        return Path(resume), plan, [f"{p} changed since the batch started; the runs made now use it as it is"
+                                    for p in changed_studies(resume, plan)]
+    if not studies or out_dir is None:
+        raise InputError("give one or more STUDY files and --out DIR (or --resume DIR)", where="batch")
+    varies = [parse_vary(v) for v in vary]
+    plan = plan_from_files(studies, seeds=parse_seeds(seeds), varies=varies, settings=settings)
+    return start_folder(out_dir, plan), plan, []
 
 
 def _fingerprint(path: str) -> str | None:

@@ -24,7 +24,7 @@ from springsynth.io.files import save_figure, write_text_atomic
 from springsynth.model.numbers import thousands
 from springsynth.report import style as P
 
-__all__ = ["summary_frame", "read_fronts", "plot_summary", "write_summary"]
+__all__ = ["summary_frame", "variant_table", "read_fronts", "plot_summary", "write_summary"]
 
 _METRICS = ["best_error_pct", "pareto_size", "feasible_share", "hypervolume", "wall_time_s"]
 _FINISHED = ("ok", "infeasible")
@@ -51,6 +51,19 @@ def summary_frame(plan: Plan, rows: Mapping[str, Mapping]) -> pd.DataFrame:
     df = pd.DataFrame(recs, columns=cols)
     df["pareto_size"] = df["pareto_size"].fillna(0).astype(int)
     return df
+
+
+def variant_table(frame: pd.DataFrame) -> pd.DataFrame:
+    """One row per study and variant: runs, median and lowest best error, median hypervolume
+    (NaN where no run finished) and the status counts as text (``3 ok, 1 bad_input``)."""
+    rows = []
+    var = frame["folder"].str.split("/").str[1]
+    for (study, variant), g in frame.groupby([frame["study"], var], sort=False):
+        rows.append({"study": study, "variant": variant, "runs": len(g),
+                     "best_error_median": g["best_error_pct"].median(), "best_error_min": g["best_error_pct"].min(),
+                     "hypervolume_median": g["hypervolume"].median(),
+                     "statuses": ", ".join(f"{n} {s}" for s, n in g["status"].value_counts().items())})
+    return pd.DataFrame(rows)
 
 
 def read_fronts(out_dir: Path, frame: pd.DataFrame) -> dict[tuple[str, str], np.ndarray]:
