@@ -97,7 +97,7 @@ def execute(runs: Sequence[RunSpec], out_dir: Path, *, scheduler: str | None = N
         client = _connect(scheduler)
     try:
         if worker_setup is not None:
-            client.register_plugin(_Setup(worker_setup), name="springsynth-setup")
+            client.register_plugin(_setup_plugin(worker_setup), name="springsynth-setup")
         return _wait(client, runs, out, retries=retries, already_done=already_done, total=total,
                      on_progress=on_progress, task=task, poll_s=poll_s)
     finally:
@@ -106,7 +106,7 @@ def execute(runs: Sequence[RunSpec], out_dir: Path, *, scheduler: str | None = N
             cluster.close()
 
 
-def _Setup(fn: Callable[[], object]):
+def _setup_plugin(fn: Callable[[], object]):
     """A Dask worker plugin that calls ``fn`` in each worker as it starts."""
     from distributed.diagnostics.plugin import WorkerPlugin
 
@@ -198,6 +198,8 @@ def _row(r: RunSpec, f: Any, killed_worker: type) -> dict:
         if isinstance(e, killed_worker):
             return row_for(r, status="lost", message="its worker died each time it ran it (out of memory? killed?); "
                                                      "--resume tries again")
-        text = " ".join(f"{type(e).__name__}: {e}".split())
-        return row_for(r, status="error", message=text[:500])
+        text = " ".join(f"{type(e).__name__}: {e}".split())[:500]
+        if isinstance(e, ModuleNotFoundError):
+            text += " (every worker machine needs springsynth installed)"
+        return row_for(r, status="error", message=text)
     return row_for(r, status="lost", message=f"the task ended {f.status} (scheduler lost?); --resume tries again")

@@ -138,6 +138,9 @@ def _spread(ax, frame, names, x, metric, colour):
             ax.scatter(xi + jit, v, s=14, color=colour, alpha=0.55, lw=0, zorder=3, label="each seed")
             ax.vlines(xi, v.min(), v.max(), color=colour, lw=1.0, alpha=0.7, zorder=2, label="range over seeds")
     ax.plot(x, med, "-o", color=P.INK, ms=4, lw=1.2, zorder=4, label="median over seeds")
+    from matplotlib.ticker import FuncFormatter
+
+    ax.yaxis.set_major_formatter(FuncFormatter(lambda v, _pos=None: f"{v:.3g}"))  # no "1e-8" offset text
     ax.margins(x=0.12 if len(x) > 1 else 0.6, y=0.15)
     if not np.isfinite(med).any():
         ax.text(0.5, 0.5, "no finished run with a feasible design", ha="center", va="center", transform=ax.transAxes,
