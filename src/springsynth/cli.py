@@ -5,20 +5,69 @@ from __future__ import annotations
 import functools
 import math
 import sys
-from datetime import datetime
 from enum import Enum
 from pathlib import Path
 from typing import List, Optional
 
 import typer
+from rich import box
 from rich.console import Console
 from rich.markup import escape
+from rich.padding import Padding
 from rich.table import Table
+from rich.text import Text
+from typer.core import TyperGroup
 
 from springsynth.model.errors import InputError
-from springsynth.model.numbers import table_number
+from springsynth.model.numbers import pct_text, size_text, table_number
 
-app = typer.Typer(add_completion=False, no_args_is_help=True, pretty_exceptions_enable=False,
+try:  # typer from 0.2x carries its own copy of click, whose exceptions it raises
+    from typer._click import exceptions as _cx
+except ImportError:  # pragma: no cover - older typer on click
+    from click import exceptions as _cx
+
+
+class _Commands(TyperGroup):
+    """The command group; click's usage errors (a bad option value, a missing argument) become
+    one line on stderr and exit code 2, as input errors do."""
+
+    def main(self, args=None, prog_name=None, complete_var=None, standalone_mode=True, **extra):
+        if not standalone_mode:
+            return super().main(args, prog_name, complete_var, standalone_mode=False, **extra)
+        argv = list(sys.argv[1:] if args is None else args)
+        try:
+            code = super().main(argv, prog_name, complete_var, standalone_mode=False, **extra)
+        except _cx.NoArgsIsHelpError as e:
+            e.show()
+            code = e.exit_code
+        except _cx.ClickException as e:
+            err.print(f"[bold red]error:[/] {escape(_usage_line(e, argv))}")
+            code = e.exit_code
+        except typer.Abort:
+            err.print("aborted")
+            code = 1
+        sys.exit(code if isinstance(code, int) else 0)
+
+
+def _usage_line(e, argv: list[str]) -> str:
+    """One line: what is wrong, the value given and where to read more."""
+    msg = " ".join(e.format_message().split()).rstrip(".")
+    param = getattr(e, "param", None)
+    if isinstance(e, _cx.BadParameter) and param is not None:
+        opts = getattr(param, "opts", ())
+        for i, a in enumerate(argv):
+            if a in opts and i + 1 < len(argv):
+                msg += f" (got {argv[i + 1]!r})"
+                break
+            if any(a.startswith(f"{o}=") for o in opts):
+                msg += f" (got {a.partition('=')[2]!r})"
+                break
+    ctx = getattr(e, "ctx", None)
+    return msg + (f"; see `{ctx.command_path} --help`" if ctx is not None else "")
+
+
+app = typer.Typer(cls=_Commands, add_completion=False, no_args_is_help=True, pretty_exceptions_enable=False,
+                  rich_markup_mode=None,
                   help="springsynth: from a target force-displacement curve to Pareto-optimal springs and flexures.")
 out = Console(highlight=False, soft_wrap=True)
 err = Console(stderr=True, highlight=False, soft_wrap=True)
@@ -44,7 +93,32 @@ def _guard(fn):
 def _caution():
     from springsynth.model.safety import CAUTION
 
-    out.print(f"[dim]Caution: {CAUTION}[/]", soft_wrap=True)
+    out.print(f"[dim]Caution: {CAUTION}[/]", soft_wrap=False)
+
+
+def _material_notices(materials) -> None:
+    """What the readers filled in for inline materials (e.g. a default strain limit)."""
+    for m in materials:
+        for n in m.notices:
+            err.print(f"notice: {escape(n)}")
+
+
+def _validity_messages(outside: dict[str, float]) -> None:
+    """Margins beyond their bound, in two kinds: where a model's accuracy ends (a warning) and
+    where only a rule of the trade is broken (a notice: harder to make, forces still valid)."""
+    from springsynth.elements import split_margins
+
+    def words(group):
+        return escape(", ".join(f"{k} +{pct_text(100 * v, decimals=1)}" if math.isfinite(v) else f"{k} (model failed)"
+                                for k, v in sorted(group.items(), key=lambda kv: -kv[1])))
+
+    model, rules = split_margins(outside)
+    if model:
+        err.print(f"[bold yellow]warning:[/] outside the models' valid range ({words(model)}): forces not "
+                  "trustworthy beyond it")
+    if rules:
+        err.print(f"notice: harder to make: {words(rules)} beyond a design rule of the trade; the model still "
+                  "holds there (see `springsynth elements`)")
 
 
 # ------------------------------------------------------------------------- evaluate
@@ -57,7 +131,7 @@ class Fmt(str, Enum):
 @app.command()
 @_guard
 def evaluate(
-    design: Path = typer.Argument(..., help="design TOML file"),
+    design: Path = typer.Argument(..., metavar="DESIGN", help="design TOML file"),
     at: Optional[Path] = typer.Option(None, "--at", help="evaluate at the points of this target CSV (and report the error)"),
     to: Optional[float] = typer.Option(None, "--to", help="largest displacement, mm (with --points)"),
     points: int = typer.Option(41, "--points", help="number of evenly spaced points from 0 to --to"),
@@ -65,27 +139,12 @@ def evaluate(
     plot: Optional[Path] = typer.Option(None, "--plot", help="write a PNG of force (stacked by element) and stress ratio"),
 ):
     """Forward model of one design: force and stress ratio along the stroke."""
-    import numpy as np
-
     from springsynth.assembly.evaluate import evaluate_design
     from springsynth.io.design_toml import load_design
-    from springsynth.io.target_csv import load_target
 
     d = load_design(design)
-    target = None
-    if at is not None and to is not None:
-        raise InputError("give either --at TARGET.csv or --to X, not both", where="evaluate")
-    if at is not None:
-        target = load_target(at)
-        x = target.x_mm
-    elif to is not None:
-        if not (math.isfinite(to) and to > 0):
-            raise InputError(f"--to must be a positive number of mm, got {to}", where="evaluate")
-        if points < 2:
-            raise InputError(f"--points must be at least 2, got {points}", where="evaluate")
-        x = np.linspace(0.0, to, points)
-    else:
-        raise InputError("say where to evaluate: --to X (mm, with --points N) or --at TARGET.csv", where="evaluate")
+    _material_notices(d.materials.values())
+    x, target, target_name = _stroke_points(at, to, points, "evaluate", design)
     r = evaluate_design(d, x)
     frame = _evaluation_frame(d, r)
     tab = Table(title=escape(f"{d.name}: {d.topology()}"), title_justify="left")
@@ -99,8 +158,8 @@ def evaluate(
     out.print(f"peak stress ratio {r.stress_ratio[0]:.3g}; size {r.size_mm3[0]:.4g} mm³ "
               f"({r.box_mm[0, 0]:.3g} x {r.box_mm[0, 1]:.3g} x {r.box_mm[0, 2]:.3g} mm); mass {r.mass_g[0]:.3g} g")
     if target is not None:
-        out.print(f"curve error against {at}: {target.curve_error_pct(r.force_N)[0]:.3f} %")
-    outside = {k: v[0] for k, v in r.validity.items() if v[0] > 0}
+        out.print(escape(f"curve error against {target_name}: {pct_text(target.curve_error_pct(r.force_N)[0], decimals=3)}"))
+    outside = {k: float(v[0]) for k, v in r.validity.items() if v[0] > 0}
     if not r.finite[0]:
         outside["numerical"] = math.inf
     if out_csv is not None:
@@ -115,9 +174,7 @@ def evaluate(
         save_figure(plot_design(d, r, target=target, title=f"{d.name}: {len(d.elements)} element(s) in parallel"), plot)
         out.print(f"wrote {plot}")
     _caution()
-    if outside:
-        msg = escape(", ".join(f"{k} +{100 * v:.0f}%" for k, v in outside.items()))
-        err.print(f"[bold yellow]warning:[/] outside the models' valid range ({msg}); these forces are not trustworthy")
+    _validity_messages(outside)
 
 
 def _evaluation_frame(d, r):
@@ -145,27 +202,34 @@ def elements(fmt: Fmt = typer.Option(Fmt.table, "--format", help="table or csv")
         for q in k.params:
             rng = " | ".join(q.choices) if q.choices else f"{q.lo:g} .. {q.hi:g}"
             rows.append({"kind": k.name, "parameter": q.name, "unit": q.unit, "range": rng, "scale": "log" if q.log else "lin",
-                         "forms": " ".join(k.forms), "validity": k.validity, "sources": "; ".join(k.sources)})
+                         "forms": " ".join(k.forms), "validity": k.validity, "design_rules": " ".join(sorted(k.design_rules)),
+                         "sources": "; ".join(k.sources)})
     if fmt == Fmt.csv:
         import pandas as pd
 
         sys.stdout.write(pd.DataFrame(rows).to_csv(index=False, lineterminator="\n"))
         return
     for k in registry().values():
-        t = Table(title=f"[bold]{k.name}[/]: {k.title}", title_justify="left", show_edge=False)
+        out.print(Text.assemble((k.name, "bold"), f": {k.title}"), soft_wrap=False)
+        t = Table(show_edge=False, box=box.SIMPLE_HEAD, pad_edge=False)
         for c in ("parameter", "unit", "range", "scale", "meaning"):
-            t.add_column(c)
+            t.add_column(c, no_wrap=c != "meaning")
         for q in k.params:
             t.add_row(q.name, q.unit, " | ".join(q.choices) if q.choices else f"{q.lo:g} .. {q.hi:g}",
                       "log" if q.log else "lin", q.doc)
         out.print(t)
-        out.print(f"  made from: {' or '.join(k.forms)} material;  stroke: {k.stroke_note}")
-        out.print(f"  valid: {k.validity}")
-        if k.stress_note:
-            out.print(f"  stress: {k.stress_note}")
-        for s in k.sources:
-            out.print(f"  source: {s}", soft_wrap=True)
+        notes = [f"made from: {' or '.join(k.forms)} material; stroke: {k.stroke_note}", f"valid: {k.validity}"]
+        if k.design_rules:
+            notes.append(f"design rules (a notice when broken, the model still holds): {', '.join(sorted(k.design_rules))}")
+        notes += [f"stress: {k.stress_note}"] * bool(k.stress_note) + [f"source: {s}" for s in k.sources]
+        for n in notes:
+            out.print(Padding(escape(n), (0, 0, 0, 2)), soft_wrap=False)
         out.print()
+
+
+#: short names of the material forms and laws in the 80-column materials table
+_FORM_CODES = {"wire": "W", "strip": "S", "bulk": "B", "elastomer": "E"}
+_LAW_CODES = {"linear": "", "neo_hookean": "neo-H", "mooney_rivlin": "M-R", "ogden": "Ogden"}
 
 
 @app.command()
@@ -182,32 +246,38 @@ def materials(fmt: Fmt = typer.Option(Fmt.table, "--format", help="table or csv"
     rows = []
     for m in catalogue().values():
         d = dataclasses.asdict(m)
+        d.pop("notices")
         d["forms"] = " ".join(m.forms)
         d["ogden_mu_MPa"] = " ".join(f"{v:g}" for v in m.ogden_mu_MPa)
         d["ogden_alpha"] = " ".join(f"{v:g}" for v in m.ogden_alpha)
         d["kinds"] = " ".join(k.name for k in registry().values() if m.suits(k.forms))
         rows.append(d)
-    df = pd.DataFrame(rows)
     if fmt == Fmt.csv:
-        sys.stdout.write(df.to_csv(index=False, lineterminator="\n"))
+        sys.stdout.write(pd.DataFrame(rows).to_csv(index=False, lineterminator="\n"))
         return
-    t = Table(title="materials (MPa, kg/m³)", title_justify="left")
-    for c in ("id", "E_MPa", "G_MPa", "nu", "density_kg_m3", "yield_MPa", "fatigue_MPa", "law", "kinds"):
-        t.add_column(c)
+    t = Table(title="materials: moduli and strengths in MPa, density in kg/m³", title_justify="left",
+              box=box.SIMPLE_HEAD, show_edge=False, pad_edge=False, collapse_padding=True)
+    for c in ("id", "E", "G", "nu", "density", "yield", "fatigue", "law", "forms"):
+        t.add_column(c, justify="left" if c in ("id", "law", "forms") else "right", no_wrap=True)
     for r in rows:
-        t.add_row(r["id"], table_number(r["E_MPa"]), table_number(r["G_MPa"]), f"{r['nu']:.3g}", table_number(r["density_kg_m3"]),
-                  table_number(r["yield_MPa"]), table_number(r["fatigue_MPa"]), r["law"], r["kinds"])
+        t.add_row(r["id"], table_number(r["E_MPa"]), table_number(r["G_MPa"]), f"{r['nu']:.3g}",
+                  table_number(r["density_kg_m3"]), table_number(r["yield_MPa"]), table_number(r["fatigue_MPa"]),
+                  _LAW_CODES[r["law"]], " ".join(_FORM_CODES[f] for f in r["forms"].split()))
     out.print(t)
-    out.print("[dim]Typical values; grade and process move them. `--format csv` adds the sources.[/]")
-
-
+    kinds = registry().values()
+    legend = ["forms (the kinds made from them): " + "; ".join(
+        f"{code} {form} ({', '.join(k.name for k in kinds if form in k.forms)})" for form, code in _FORM_CODES.items()),
+        "law (elastomers; blank: linear elastic): neo-H neo-Hookean, M-R Mooney-Rivlin, Ogden",
+        "Typical values; grade and process move them. `--format csv` gives every field and the sources."]
+    for n in legend:
+        out.print(Padding(escape(n), (0, 0, 0, 2)), style="dim", soft_wrap=False)
 
 
 # ------------------------------------------------------------------------- check
 
 @app.command()
 @_guard
-def check(file: Path = typer.Argument(..., help="a target CSV, a study TOML or a design TOML")):
+def check(file: Path = typer.Argument(..., metavar="FILE", help="a target CSV, a study TOML or a design TOML")):
     """Validate a target, study or design file and say what is wrong."""
     from springsynth.io.design_toml import load_design, read_toml
     from springsynth.io.study_toml import load_study
@@ -224,8 +294,10 @@ def check(file: Path = typer.Argument(..., help="a target CSV, a study TOML or a
     if "element" in doc:
         d = load_design(file)
         out.print(escape(f"{file}: design with {len(d.elements)} element(s): {d.topology()}"))
+        _material_notices(d.materials.values())
         return
     st = load_study(file)
+    _material_notices(st.search.materials)
     words = {"scale_force": "forces", "scale_stroke": "displacements"}
     scaled = ", ".join(f"{words[k]} x{v:g}" for k, v in st.raw["target"].items() if k in words)
     out.print(f"{file}: study {st.name!r}: target {st.target_path}{f' ({scaled})' if scaled else ''} "
@@ -247,11 +319,15 @@ def _progress_runner(study, **kw):
         task = prog.add_task("search", total=kw.get("generations") or study.search.generations, info="")
 
         def on_gen(p):
-            best = "-" if math.isnan(p.best_error_pct) else f"{p.best_error_pct:.2f}%"
+            best = "-" if math.isnan(p.best_error_pct) else pct_text(p.best_error_pct)
             prog.update(task, completed=p.generation, total=p.generations,
-                        info=f"evals {p.evaluations}  feasible {100 * p.feasible_share:.0f}%  best error {best}  HV {p.hypervolume:.3f}")
+                        info=f"evals {p.evaluations}  feasible {pct_text(100 * p.feasible_share, decimals=0)}  "
+                             f"best error {best}  HV {p.hypervolume:.3f}")
 
-        return synthesize(study, on_generation=on_gen, **kw)
+        res = synthesize(study, on_generation=on_gen, **kw)
+    for n in res.notices:
+        err.print(f"notice: {escape(n)}")
+    return res
 
 
 def _finish_run(res, folder):
@@ -259,17 +335,17 @@ def _finish_run(res, folder):
     t = Table(title=escape(f"Pareto set: {len(df)} designs in {folder}"), title_justify="left")
     for c, j in (("id", "left"), ("error %", "right"), ("stress ratio", "right"), ("size mm³", "right"),
                  ("mass g", "right"), ("topology", "left")):
-        t.add_column(c, justify=j, overflow="fold")
+        t.add_column(c, justify=j, overflow="fold", no_wrap=c != "topology")
     for _, r in df.head(12).iterrows():
-        t.add_row(r.design_id, f"{r.curve_error_pct:.3g}", f"{r.stress_ratio:.3g}", f"{r.size_mm3:.4g}",
-                  f"{r.mass_g:.3g}", escape(r.topology))
+        t.add_row(escape(str(r.design_id)), pct_text(r.curve_error_pct, suffix=""), f"{r.stress_ratio:.3g}",
+                  size_text(r.size_mm3), f"{r.mass_g:.3g}", escape(r.topology))
     out.print(t)
     if len(df) > 12:
         out.print(f"... {len(df) - 12} more in {folder / 'pareto.csv'}")
     if res.polish.get("improved"):
         p = res.polish
         out.print(f"local polish improved {p['improved']} of {p['starts']} starting designs (median error reduction "
-                  f"{p['median_reduction_pct']:.0f}%)")
+                  f"{pct_text(p['median_reduction_pct'], decimals=0)})")
     _caution()
     if not res.feasible:
         err.print("[bold red]no feasible design found.[/] The closest designs and what they violate:")
@@ -279,14 +355,10 @@ def _finish_run(res, folder):
         raise typer.Exit(1)
 
 
-def _default_out(name: str) -> Path:
-    return Path("runs") / f"{name}-{datetime.now().strftime('%Y%m%d-%H%M%S')}"
-
-
 @app.command()
 @_guard
 def run(
-    study: Optional[Path] = typer.Argument(None, help="study TOML file"),
+    study: Optional[Path] = typer.Argument(None, metavar="STUDY", help="study TOML file"),
     out_dir: Optional[Path] = typer.Option(None, "--out", help="run folder to create (default runs/<name>-<time>)"),
     population: Optional[int] = typer.Option(None, "--population", min=4),
     generations: Optional[int] = typer.Option(None, "--generations", min=1),
@@ -298,7 +370,7 @@ def run(
     Ctrl-C (or SIGTERM) finishes the current generation, saves the results so far
     (marked partial) with a checkpoint, and exits 130; `--resume RUN` continues it.
     """
-    from springsynth.io.runfolder import read_run, write_run
+    from springsynth.io.runfolder import default_run_folder, read_run, resumed_run_folder, write_run
     from springsynth.io.study_toml import load_study
 
     if (study is None) == (resume is None):
@@ -318,11 +390,14 @@ def run(
         st = load_study(study)
     for n in st.target.notices:
         err.print(f"notice: {n}")
+    _material_notices(st.search.materials)
     with _stop_on_signal() as stop:
         res = _progress_runner(st, population=population, generations=generations, seed=seed,
                                should_stop=stop, resume=checkpoint)
-    folder = write_run(res, out_dir or _default_out(st.name), parent=parent, overrides=overrides,
-                       resumed_from=resumed)
+    default = default_run_folder(st.name) if resume is None else resumed_run_folder(resume)
+    folder = write_run(res, out_dir or default, parent=parent, overrides=overrides, resumed_from=resumed)
+    if resume is not None:
+        out.print(escape(f"resumed {resume}: the finished run is in {folder} (the interrupted run is left as it was)"))
     if res.partial:
         err.print(f"[bold yellow]interrupted[/] after generation {res.history[-1]['generation']} of "
                   f"{res.generations}: results so far (partial) in {folder}; continue with "
@@ -365,7 +440,7 @@ class _stop_on_signal:
 @app.command()
 @_guard
 def rerun(
-    run_dir: Path = typer.Argument(..., help="an earlier run folder"),
+    run_dir: Path = typer.Argument(..., metavar="RUN", help="an earlier run folder"),
     set_: List[str] = typer.Option([], "--set", help="override, e.g. limits.stress_ratio=0.6 (repeatable)"),
     out_dir: Optional[Path] = typer.Option(None, "--out", help="run folder to create"),
     population: Optional[int] = typer.Option(None, "--population", min=4),
@@ -373,14 +448,20 @@ def rerun(
     seed: Optional[int] = typer.Option(None, "--seed", min=0),
 ):
     """The same study with settings changed, warm-started from the run's Pareto designs."""
-    from springsynth.io.runfolder import read_run, write_run
+    from springsynth.io.runfolder import default_run_folder, read_run, write_run
+    from springsynth.search.synthesis import fitting_designs
 
     parent = read_run(run_dir)
     st = parent.study(set_)
-    res = _progress_runner(st, population=population, generations=generations, seed=seed,
-                           warm_start=parent.designs)
+    _material_notices(st.search.materials)
+    kept, dropped = fitting_designs(st, parent.designs)
+    if dropped:
+        err.print(escape(f"notice: {len(dropped)} of the run's {len(parent.designs)} designs left out as starting "
+                         f"points ({', '.join(d.name for d in dropped)}): none of their elements is of a kind and "
+                         "material the changed study allows"))
+    res = _progress_runner(st, population=population, generations=generations, seed=seed, warm_start=kept)
     overrides = list(parent.meta.get("overrides", [])) + list(set_)
-    folder = write_run(res, out_dir or _default_out(st.name), parent=str(run_dir), overrides=overrides)
+    folder = write_run(res, out_dir or default_run_folder(st.name), parent=str(run_dir), overrides=overrides)
     _finish_run(res, folder)
 
 
@@ -476,7 +557,7 @@ def _finish_batch(B, frame, folder, outcome):
 
 @app.command()
 @_guard
-def report(run_dir: Path = typer.Argument(..., help="a run folder written by `springsynth run`")):
+def report(run_dir: Path = typer.Argument(..., metavar="RUN", help="a run folder written by `springsynth run`")):
     """Rebuild a run folder's figures and self-contained report.html from its files (no new search)."""
     from springsynth.io.runfolder import build_report, read_run
 
@@ -487,87 +568,65 @@ def report(run_dir: Path = typer.Argument(..., help="a run folder written by `sp
 
 # ------------------------------------------------------------------------- verify and tolerance
 
-def _stroke_points(at, to, points, where):
-    """Stroke points from --at TARGET.csv or --to X (with --points N); returns (x, target or None)."""
+def _stroke_points(at, to, points, where, design: Path):
+    """Stroke points from --at TARGET.csv, --to X (with --points N) or, for a design written into a
+    run folder, the run's own target; returns ``(x, target or None, what the target is called)``."""
     import numpy as np
 
+    from springsynth.io.runfolder import run_of_design, run_target
     from springsynth.io.target_csv import load_target
 
     if at is not None and to is not None:
         raise InputError("give either --at TARGET.csv or --to X, not both", where=where)
     if at is not None:
         t = load_target(at)
-        return t.x_mm, t
+        return t.x_mm, t, str(at)
+    run = run_of_design(design) if to is None else None
+    if run is not None:
+        t = run_target(run)
+        out.print(escape(f"at the {t.x_mm.size} points of the target of run {run} (--at or --to to choose others)"))
+        return t.x_mm, t, f"the run's target ({run / 'target.csv'})"
     if to is None:
         raise InputError("say where to evaluate: --to X (mm, with --points N) or --at TARGET.csv", where=where)
     if not (math.isfinite(to) and to > 0):
         raise InputError(f"--to must be a positive number of mm, got {to}", where=where)
     if points < 2:
         raise InputError(f"--points must be at least 2, got {points}", where=where)
-    return np.linspace(0.0, to, points), None
+    return np.linspace(0.0, to, points), None, ""
 
 
 @app.command()
 @_guard
 def verify(
-    path: Path = typer.Argument(..., help="a design TOML, or a run folder (verifies its designs over the target stroke)"),
+    path: Path = typer.Argument(..., metavar="DESIGN|RUN", help="a design TOML, or a run folder (verifies its designs over the target stroke)"),
     at: Optional[Path] = typer.Option(None, "--at", help="design: verify at the points of this target CSV"),
     to: Optional[float] = typer.Option(None, "--to", help="design: largest displacement, mm"),
     points: int = typer.Option(9, "--points", help="number of stroke points from 0 to the end of the stroke"),
     top: Optional[int] = typer.Option(None, "--top", min=1, help="run: only the N lowest-error designs"),
 ):
     """Re-solve designs with independent high-fidelity solvers and report the deviation from the fast models."""
-    import numpy as np
-    import pandas as pd
-
-    from springsynth.checks.verify import THRESHOLD_PCT, verify_design
-
     if path.is_dir():
-        from springsynth.io.files import write_text_atomic
-        from springsynth.io.runfolder import read_run
-
         if at is not None or to is not None:
             raise InputError("a run is verified over its own target stroke; drop --at/--to", where="verify")
-        if points < 2:
-            raise InputError(f"--points must be at least 2, got {points}", where="verify")
-        run_ = read_run(path)
-        x = np.linspace(0.0, run_.study().target.stroke_mm, points)
-        designs = run_.designs
-        if top is not None:
-            order = np.argsort(run_.table["curve_error_pct"].to_numpy(), kind="stable")[:top]
-            designs = [designs[i] for i in order]
-        reports = [verify_design(d, x) for d in designs]
-        frame = pd.concat([r.to_frame() for r in reports], ignore_index=True) if reports else pd.DataFrame()
-        dest = path / "verification.csv"
-        write_text_atomic(dest, frame.to_csv(index=False, float_format="%.6g", lineterminator="\n"))
+        from springsynth.io.checks import verify_run
+
+        reports, dest = verify_run(path, points=points, top=top)
+        target = target_name = None
     else:
+        from springsynth.checks.verify import verify_design
         from springsynth.io.design_toml import load_design
 
         d = load_design(path)
-        x, target = _stroke_points(at, to, points, "verify")
-        reports = [verify_design(d, x)]
-        frame = reports[0].to_frame()
-        dest = None
-    tab = Table(title=f"independent verification (deviation in % of the largest value; flag above {THRESHOLD_PCT:g} %)",
-                title_justify="left")
-    for c in ("design", "element", "kind", "force dev %", "stress dev %"):
-        tab.add_column(c)
-    fmt = lambda v: "n/a" if not math.isfinite(v) else f"{v:.2f}"  # noqa: E731
-    methods: dict[str, str] = {}
-    for _, r in frame.iterrows():
-        mark = "[bold yellow]" if r.flagged else ""
-        tab.add_row(escape(str(r.design_id)), str(r.element), r.kind or "", mark + fmt(r.force_dev_pct),
-                    mark + fmt(r.stress_dev_pct))
-        if r.kind:
-            methods.setdefault(r.kind, r.method or r.note)
-    out.print(tab)
-    for k, m in methods.items():
-        out.print(escape(f"  {k}: {m}"), soft_wrap=True)
-    if dest is None and at is not None:
+        _material_notices(d.materials.values())
+        x, target, target_name = _stroke_points(at, to, points, "verify", path)
+        reports, dest = [verify_design(d, x)], None
+    _print_verification(reports)
+    if target is not None:
         rep = reports[0]
         ek = target.curve_error_pct(rep.force_kernel_N[None])[0]
         ev = target.curve_error_pct(rep.force_verified_N[None])[0]
-        out.print(f"curve error against {at}: {ek:.3f} % (fast models), {ev:.3f} % (verification solvers)")
+        out.print(escape(f"curve error against {target_name}: {pct_text(ek, decimals=3)} (fast models), "
+                         f"{pct_text(ev, decimals=3)} (verification solvers)"))
     if dest is not None:
         out.print(f"wrote {dest}")
     for r in reports:
@@ -576,10 +635,33 @@ def verify(
     _caution()
 
 
+def _print_verification(reports) -> None:
+    """The deviations as a table ("not compared" where nothing was), then each kind's method."""
+    from springsynth.checks.verify import THRESHOLD_PCT
+
+    tab = Table(title=f"independent verification (deviation, % of the largest value; flagged above "
+                      f"{THRESHOLD_PCT:g} %)", title_justify="left")
+    for c, j in (("design", "left"), ("element", "left"), ("kind", "left"), ("force dev %", "right"),
+                 ("stress dev %", "right")):
+        tab.add_column(c, justify=j, no_wrap=c != "kind", overflow="fold")
+    fmt = lambda v: pct_text(v, suffix="", missing="not compared")  # noqa: E731
+    methods: dict[str, str] = {}
+    for rep in reports:
+        for _, r in rep.to_frame().iterrows():
+            mark = "[bold yellow]" if r.flagged else ""
+            tab.add_row(escape(str(r.design_id)), str(r.element), r.kind or "", mark + fmt(r.force_dev_pct),
+                        mark + fmt(r.stress_dev_pct))
+            if r.kind and r.method:
+                methods.setdefault(r.kind, r.method)
+    out.print(tab)
+    for k, m in methods.items():
+        out.print(Padding(escape(f"{k}: {m}"), (0, 0, 0, 2)), soft_wrap=False)
+
+
 @app.command()
 @_guard
 def tolerance(
-    design: Path = typer.Argument(..., help="design TOML file"),
+    design: Path = typer.Argument(..., metavar="DESIGN", help="design TOML file"),
     samples: int = typer.Option(2000, "--samples", help="Monte Carlo samples"),
     at: Optional[Path] = typer.Option(None, "--at", help="target CSV: stroke points, curve error and share in its band"),
     to: Optional[float] = typer.Option(None, "--to", help="largest displacement, mm (with --points)"),
@@ -592,27 +674,29 @@ def tolerance(
     from springsynth.checks.tolerance import tolerance_analysis
     from springsynth.io.checks import write_tolerance
     from springsynth.io.design_toml import load_design
-    from springsynth.io.files import new_folder
+    from springsynth.io.files import new_folder, safe_folder_name
 
     d = load_design(design)
-    x, target = _stroke_points(at, to, points, "tolerance")
+    _material_notices(d.materials.values())
+    x, target, _ = _stroke_points(at, to, points, "tolerance", design)
     if samples < 2:
         raise InputError(f"--samples must be at least 2, got {samples}", where="tolerance")
     res = tolerance_analysis(d, x, target=target, n_samples=samples, seed=seed, process=process)
-    folder = new_folder(out_dir or Path(f"{d.name}-tolerance"))
+    folder = new_folder(out_dir or Path(f"{safe_folder_name(d.name, fallback='design')}-tolerance"))
     write_tolerance(res, folder, target=target)
     out.print(escape(f"{d.name}: {samples} parts; force at {x[-1]:.4g} mm: nominal {res.nominal_N[-1]:.4g} N, "
                      f"5-95 % {res.p05_N[-1]:.4g} .. {res.p95_N[-1]:.4g} N"))
     if math.isfinite(res.share_in_band):
-        out.print(f"inside the target band at every point: {100 * res.share_in_band:.1f} % of parts")
+        out.print(f"inside the target band at every point: {pct_text(100 * res.share_in_band, decimals=1)} of parts")
     tab = Table(title="sensitivity (elasticity = least-squares d ln F / d ln p over the stroke; spread = 1-sigma "
                       "share of the force, %)", title_justify="left")
     for c in ("quantity", "tolerance", "elasticity", "spread %"):
-        tab.add_column(c)
+        tab.add_column(c, no_wrap=c == "quantity", justify="left" if c == "quantity" else "right")
     for _, r in res.sensitivity.head(8).iterrows():
-        tol = f"±{r.tolerance_pct:.2g} %" if r.quantity.endswith("modulus") else f"±{r.tolerance_pm:.3g}"
+        tol = (f"±{pct_text(r.tolerance_pct, decimals=1)}" if r.quantity.endswith("modulus")
+               else f"±{r.tolerance_pm:.3g}")
         tab.add_row(r.quantity, tol, "n/a" if not math.isfinite(r.elasticity) else f"{r.elasticity:.3g}",
-                    f"{r.spread_pct:.3g}")
+                    pct_text(r.spread_pct, suffix=""))
     out.print(tab)
     out.print(f"wrote {folder}/tolerance.png, band.csv, samples.csv, sensitivity.csv")
     _caution()

@@ -108,3 +108,43 @@ def test_partial_run_resumes_from_the_command_line(study, reference, tmp_path):
 def test_resume_needs_an_interrupted_run(reference, tmp_path):
     r = runner.invoke(app, ["run", "--resume", str(reference), "--out", str(tmp_path / "x")])
     assert r.exit_code == 2 and "not an interrupted run" in r.output
+
+
+@pytest.mark.slow
+def test_resume_decodes_with_the_checkpoints_own_study(study, tmp_path):
+    # the caller's study differs (one element, other kinds): the checkpoint's study decodes the genomes
+    seen = []
+    part = synthesize(load_study(study), on_generation=lambda p: seen.append(p.generation),
+                      should_stop=lambda: seen[-1] >= 11)
+    other = write_study(tmp_path, str(study.parent / "t.csv"), elements=("column",), materials=("stainless_17_7ph",))
+    done = synthesize(load_study(other), resume=part.checkpoint)
+    assert not done.partial and done.study.search.max_elements == 2
+    assert {e.kind for d in done.designs for e in d.elements} <= {"blade_guided", "helical_compression"}
+    # written and read back: catalogue materials stay catalogue ids after the round trip through the pickle
+    folder = write_run(done, tmp_path / "final", plots=False)
+    assert not any("[materials." in p.read_text() for p in (folder / "designs").glob("*.toml"))
+    assert len(read_run(folder).designs) == len(done.designs)
+
+
+@pytest.mark.slow
+def test_resume_on_the_command_line_finishes_beside_the_interrupted_run(study, tmp_path, monkeypatch):
+    seen = []
+    res = synthesize(load_study(study), on_generation=lambda p: seen.append(p.generation),
+                     should_stop=lambda: seen[-1] >= 11)
+    part = write_run(res, tmp_path / "runs" / "part", plots=False)
+    elsewhere = tmp_path / "elsewhere"
+    elsewhere.mkdir()
+    monkeypatch.chdir(elsewhere)
+    old = os.umask(0o022)
+    try:
+        r = runner.invoke(app, ["run", "--resume", str(part)])
+    finally:
+        os.umask(old)
+    assert r.exit_code in (0, 1), r.output
+    done = tmp_path / "runs" / "part-resumed"
+    assert "the finished run is in" in r.output and "part-resumed" in r.output
+    assert json.loads((done / "run.json").read_text())["partial"] is False
+    assert not (elsewhere / "runs").exists()
+    assert json.loads((part / "run.json").read_text())["partial"] is True        # left as it was
+    modes = {p.name: p.stat().st_mode & 0o777 for p in done.rglob("*") if p.is_file()}
+    assert set(modes.values()) == {0o644}, modes                                 # the umask, not 0600

@@ -107,3 +107,33 @@ def test_rerun_applies_overrides_and_records_its_parent(known_study, tmp_path):
     assert (table.stress_ratio[table.feasible] <= 0.5 + 1e-9).all()
     bad = runner.invoke(app, ["rerun", str(first), "--set", "limits.stres_ratio=0.5", "--out", str(tmp_path / "x")])
     assert bad.exit_code == 2 and "did you mean 'stress_ratio'" in bad.output
+
+
+@pytest.mark.slow
+def test_rerun_drops_parents_that_no_longer_fit_and_goes_on(known_study, tmp_path):
+    first = tmp_path / "first"
+    assert runner.invoke(app, ["run", str(known_study), "--out", str(first), "--population", "12",
+                               "--generations", "2"]).exit_code == 0
+    # only columns now: none of the parents (blades and coil springs) has an element that fits
+    r = runner.invoke(app, ["rerun", str(first), "--set", 'search.elements=["column"]', "--set",
+                            'search.materials=["stainless_17_7ph"]', "--out", str(tmp_path / "second"),
+                            "--population", "12", "--generations", "2"])
+    assert r.exit_code in (0, 1), r.output
+    assert "Traceback" not in r.output and "left out as starting points" in r.output
+    table = pd.read_csv(tmp_path / "second" / "pareto.csv")
+    assert len(table) > 0 and (table.e1_kind == "column").all()
+
+
+@pytest.mark.slow
+def test_a_study_name_with_a_path_keeps_the_run_inside_runs(known_study, tmp_path, monkeypatch):
+    p = tmp_path / "study.toml"
+    p.write_text(known_study.read_text().replace('name = "t"', 'name = "../../../x"')
+                 .replace('file = "t.csv"', f'file = "{known_study.parent / "t.csv"}"'))
+    work = tmp_path / "a" / "b" / "c"
+    work.mkdir(parents=True)
+    monkeypatch.chdir(work)
+    r = runner.invoke(app, ["run", str(p), "--population", "8", "--generations", "2"])
+    assert r.exit_code in (0, 1), r.output
+    (folder,) = (work / "runs").iterdir()
+    assert folder.name.startswith("x-") and (folder / "pareto.csv").exists()
+    assert [f.parent for f in tmp_path.rglob("x-*") if f.is_dir()] == [work / "runs"]   # nowhere else

@@ -148,3 +148,26 @@ def test_score_uses_robust_error_when_asked(tmp_path):
     assert b.F[0, 0] != pytest.approx(a.F[0, 0], rel=1e-3)
     # the other objectives and the constraints are untouched
     assert np.array_equal(a.G, b.G) and np.array_equal(a.F[:, 1:], b.F[:, 1:])
+
+
+def test_sensitivity_of_a_zero_nominal_is_a_one_sided_difference():
+    # a straight column (rise 0) keeps a rise tolerance (ISO 2768-m, +-0.05 mm below 0.5 mm): the rise
+    # can only grow, so its sensitivity is the forward difference over one sigma, F(rise = sigma) - F(0),
+    # computed here with the forward model itself: spread = 100 RMS(F(sigma) - F(0)) / RMS(F(0)).
+    from springsynth.assembly.design import Element
+
+    def column(rise):
+        return design(Element("column", "stainless_17_7ph", 1, 0.0, {"length_mm": 30.0, "width_mm": 5.0,
+                                                                     "thickness_mm": 0.3, "rise_mm": rise,
+                                                                     "ends": "pinned"}))
+
+    x = np.linspace(0.0, 2.0, 9)
+    res = T.tolerance_analysis(column(0.0), x, n_samples=50, seed=0)
+    row = res.sensitivity.set_index("quantity").loc["e1.rise_mm"]
+    sigma = 0.05 / T.SIGMAS_PER_TOLERANCE
+    F0, F1 = (evaluate_design(column(r), x).force_N[0] for r in (0.0, sigma))
+    expected = 100.0 * math.sqrt(np.mean((F1 - F0) ** 2)) / math.sqrt(np.mean(F0**2))
+    assert row.tolerance_pm == pytest.approx(0.05)
+    assert math.isfinite(row.spread_pct) and row.spread_pct == pytest.approx(expected, rel=1e-9)
+    assert math.isnan(row.elasticity) and math.isnan(row.tolerance_pct)   # no relative measure of a zero value
+    assert res.sensitivity.spread_pct.notna().all()

@@ -431,8 +431,9 @@ def tolerance_analysis(design: Design, x_mm: np.ndarray, *, target=None, n_sampl
 def _sensitivity_rows(quants, S: int, P: int):
     """Perturbations (in sigmas) of the sensitivity rows: ``+h`` and ``-h`` for every quantity, then nominal.
 
-    ``h`` is a relative 1e-3 of the value (offsets: 1 sigma). Returns ``zp`` (2Q+1, S, P),
-    ``zo`` and ``ze`` (2Q+1, S), and each quantity's step ``h sigma`` in its own unit, shape (Q,).
+    ``h`` is a relative 1e-3 of the value (offsets, and parameters whose nominal is 0: 1 sigma;
+    see :func:`_difference_step`). Returns ``zp`` (2Q+1, S, P), ``zo`` and ``ze`` (2Q+1, S), and
+    each quantity's change between its two rows in its own unit, shape (Q,).
     """
     Q = len(quants)
     zs_p = np.zeros((2 * Q + 1, S, P))
@@ -440,8 +441,7 @@ def _sensitivity_rows(quants, S: int, P: int):
     zs_e = np.zeros((2 * Q + 1, S))
     steps = np.zeros(Q)
     for qi, (_, what, j, c, s, nom, _) in enumerate(quants):
-        h = 1.0 if what == "offset" else 1e-3 * abs(nom) / s      # in sigmas
-        steps[qi] = h * s
+        h, steps[qi] = _difference_step(what, nom, s)
         for sign, row in ((1.0, 2 * qi), (-1.0, 2 * qi + 1)):
             if what == "param":
                 zs_p[row, j, c] = sign * h
@@ -464,13 +464,13 @@ def _sensitivity_table(quants, F_rows: np.ndarray, steps: np.ndarray):
     sens = []
     rms0 = math.sqrt(float(np.mean(F0 * F0))) or math.nan
     for qi, (label, what, j, c, s, nom, src) in enumerate(quants):
-        dF = (F_rows[2 * qi] - F_rows[2 * qi + 1]) / (2.0 * steps[qi])   # dF/dq
+        dF = (F_rows[2 * qi] - F_rows[2 * qi + 1]) / steps[qi]   # dF/dq
         spread = 100.0 * math.sqrt(float(np.mean((dF * s) ** 2))) / rms0
         if what == "offset":
             elast = math.nan
         else:
             qval = 1.0 if what == "modulus" else nom
-            elast = float(np.sum(F0 * dF * qval) / np.sum(F0 * F0)) if np.any(F0) else math.nan
+            elast = float(np.sum(F0 * dF * qval) / np.sum(F0 * F0)) if np.any(F0) and qval else math.nan
         tol = s * SIGMAS_PER_TOLERANCE
         sens.append({"quantity": label, "nominal": nom, "tolerance_pm": tol if what != "modulus" else math.nan,
                      "tolerance_pct": 100.0 * tol if what == "modulus" else (100.0 * tol / abs(nom) if nom else math.nan),
@@ -510,6 +510,19 @@ def _sample_table(quants, z: np.ndarray, F: np.ndarray, stress_ratio: np.ndarray
             share = float(np.mean(inb))
             cols["in_band"] = inb
     return cols, err, inb, share
+
+
+def _difference_step(what: str, nom: float, sigma: float) -> tuple[float, float]:
+    """``(h, dq)``: the +-h sigma rows of a sensitivity and the change of the quantity between them.
+
+    A relative step of 1e-3 of the value, central; one sigma for offsets. A parameter whose
+    nominal is 0 (a straight column's rise) gets one sigma too, and as its step down is clipped
+    at 0 (:func:`_perturb`) the difference is a forward one over one sigma, ``dq = sigma``.
+    """
+    if what == "param" and nom == 0:
+        return 1.0, sigma
+    h = 1.0 if what == "offset" else 1e-3 * abs(nom) / sigma
+    return h, 2.0 * h * sigma
 
 
 def _at(F: np.ndarray, x: np.ndarray, xt: np.ndarray) -> np.ndarray:

@@ -9,10 +9,12 @@ from __future__ import annotations
 import importlib
 import pkgutil
 from functools import lru_cache
+from typing import Mapping
 
 from springsynth.elements._base import TOLERANCE_CLASSES, ElementKind, Param, missing_declarations
 
-__all__ = ["ElementKind", "Param", "TOLERANCE_CLASSES", "missing_declarations", "registry", "get_kind", "kind_names"]
+__all__ = ["ElementKind", "Param", "TOLERANCE_CLASSES", "missing_declarations", "registry", "get_kind", "kind_names",
+           "design_rule_names", "split_margins"]
 
 
 @lru_cache(maxsize=1)
@@ -42,3 +44,22 @@ def kind_names() -> tuple[str, ...]:
 def get_kind(name: str) -> ElementKind:
     """The kind called ``name``; raises KeyError when unknown."""
     return registry()[name]
+
+
+@lru_cache(maxsize=1)
+def design_rule_names() -> frozenset[str]:
+    """Names of validity margins that are rules of the trade in the kinds that declare them
+    (``ElementKind.design_rules``); every other margin is a limit of a model."""
+    return frozenset().union(*(k.design_rules for k in registry().values()))
+
+
+def split_margins(margins: Mapping[str, float]) -> tuple[dict[str, float], dict[str, float]]:
+    """``(model limits, design rules)``: named margins split by their category.
+
+    Parameters
+    ----------
+    margins : mapping of str -> float
+        Margins of one design (``<= 0`` inside), e.g. those beyond their bound.
+    """
+    rules = design_rule_names()
+    return ({k: v for k, v in margins.items() if k not in rules}, {k: v for k, v in margins.items() if k in rules})

@@ -111,6 +111,12 @@ class ElementKind:
                             :data:`springsynth.checks.verify.SOLVERS` (``"none"``: reported as not verified)
     verify_quick : bool     the solver takes well under a second, so the top designs of every run
                             are verified automatically (False: left to ``springsynth verify``)
+    design_rules : frozenset[str]
+                            names of :meth:`validity_margins` that are rules of the trade (a maker's
+                            range, such as a coil spring's index 4..12), not limits of the model: the
+                            forces stay exact beyond them, the part is only harder to make. Every
+                            other margin marks where the model's accuracy ends. A margin name means
+                            the same in every kind that uses it.
     """
 
     name: str = ""
@@ -125,6 +131,7 @@ class ElementKind:
     glyph: str = ""
     verification: str = ""
     verify_quick: bool = True
+    design_rules: frozenset[str] = frozenset()
     extra: dict = field(default_factory=dict, compare=False, repr=False)
 
     # ---- kernels (override) ---------------------------------------------------------
@@ -148,7 +155,8 @@ class ElementKind:
 
         Write each as ``demand / bound - 1`` (or ``bound / demand - 1`` for a lower
         bound) so that 0.1 means "10 % beyond the bound". Names are short snake_case
-        phrases that a designer can read (``spring_index``, ``solid_height``).
+        phrases that a designer can read (``spring_index``, ``solid_height``). Name the
+        margins that are rules of the trade rather than model limits in :attr:`design_rules`.
         """
         return {}
 

@@ -32,15 +32,22 @@ The wire-size law is applied over the whole searched wire range; its published f
 covers 0.1-6.5 mm for music wire and narrower ranges for some other wires (see the
 material's source).
 
-Validity (each a normalised margin, <= 0 inside):
+Validity (each a normalised margin, <= 0 inside). Two are rules of the trade, listed in
+``design_rules``: the force law holds beyond them, the spring is only harder to make
+(the search still keeps to them, so that it proposes springs a maker accepts):
 
-* ``spring_index``: 4 <= C <= 12 (Shigley's recommended range; SMI prefers the same).
-  Below 4 coiling strains the wire, above 12 the spring tangles and the curvature
-  factors lose accuracy.
+* ``spring_index`` (design rule): 4 <= C <= 12 (Shigley's recommended range; SMI
+  prefers the same). Below 4 coiling strains the wire, above 12 the spring tangles and
+  its diameter is hard to hold. The rate and the curvature factors themselves hold for
+  any index (the factors tend to 1 as C grows); see ``low_index`` for the model's end.
+* ``solid_height`` (design rule): the stroke plus a fractional overrun xi = 0.15 must
+  fit before the coils close, L0 >= Ls + (1 + xi) u_max (Shigley's static design rule).
+* ``coils_close``: the coils must not close within the stroke, L0 >= Ls + u_max;
+  beyond it the spring is solid and the linear rate no longer describes it.
+* ``low_index``: C >= 2, where the correction factors are evaluated (below it they
+  are held at C = 2, so the stress would be underestimated).
 * ``active_coils``: Na >= 3 (Shigley); fewer coils make the rate depend on how the
   end coils seat.
-* ``solid_height``: the stroke plus a fractional overrun xi = 0.15 must fit before
-  the coils close, L0 >= Ls + (1 + xi) u_max (Shigley's static design rule).
 * ``buckling``: u_max <= y_cr, the critical deflection of Shigley ch. 10,
   ``y_cr = L0 C1' [1 - sqrt(1 - C2'/lambda^2)]``, lambda = alpha L0/D,
   C1' = E/(2(E-G)), C2' = 2 pi^2 (E-G)/(2G+E), with alpha = 0.5 (both ends on flat
@@ -169,8 +176,10 @@ class HelicalCompression(ElementKind):
         y_cr = critical_deflection(L0, D, mat.E, mat.G, ALPHA_FLAT_ENDS)
         return {
             "spring_index": np.maximum(C / INDEX_MAX, INDEX_MIN / C) - 1.0,
+            "low_index": INDEX_FACTOR_FLOOR / C - 1.0,
             "active_coils": ACTIVE_COILS_MIN / Na - 1.0,
             "solid_height": (Ls + (1.0 + OVERRUN) * u_max) / L0 - 1.0,
+            "coils_close": (Ls + u_max) / L0 - 1.0,
             "buckling": u_max / y_cr - 1.0,
             "helix_angle": pitch / (math.pi * D * math.tan(HELIX_ANGLE_MAX)) - 1.0,
         }
@@ -222,9 +231,10 @@ KIND = HelicalCompression(
         Param("free_length_mm", "mm", 2.0, 300.0, log=True, doc="free length L0", tolerance="coiling"),
     ),
     forms=("wire",),
-    validity=("spring index 4 <= D/d <= 12; active coils >= 3; free length >= solid length d(Na+2) "
-              "+ 1.15 x stroke; stroke below the buckling deflection for ends on flat parallel plates "
-              "(alpha = 0.5); helix angle <= 12 deg"),
+    validity=("active coils >= 3; spring index D/d >= 2; coils not closed within the stroke; stroke below "
+              "the buckling deflection for ends on flat parallel plates (alpha = 0.5); helix angle <= 12 deg. "
+              "Design rules: spring index 4 <= D/d <= 12; free length >= solid length d(Na+2) + 1.15 x stroke"),
+    design_rules=frozenset({"spring_index", "solid_height"}),
     sources=(
         "R.G. Budynas & J.K. Nisbett, Shigley's Mechanical Engineering Design, 9th ed., ch. 10: "
         "rate, Bergstraesser factor, end types (Table 10-1), wire strength (Table 10-4), "

@@ -36,14 +36,18 @@ bending. :meth:`stress` returns one *body-equivalent* stress,
 so that the stress ratio is the largest of the three ratios. Outside the index
 range the factors are evaluated at max(C, 2), as for compression springs.
 
-Validity (normalised margins, <= 0 inside):
+Validity (normalised margins, <= 0 inside). ``spring_index`` and ``initial_tension`` are
+rules of the trade (``design_rules``): the force law holds beyond them, the spring is only
+harder to make (the search still keeps to them):
 
-* ``spring_index``: 4 <= C <= 12 (Shigley);
-* ``active_coils``: Na >= 3;
-* ``initial_tension``: tau_i inside the preferred range of Shigley ch. 10 (after
-  spring makers' data), ``33500/exp(0.105 C) +- 1000 (4 - (C-3)/6.5)`` psi
-  (about ``231/exp(0.105 C) +- 6.9 (4 - (C-3)/6.5)`` MPa), both sides.
-  The range is given for steel wire and applied unscaled to every material.
+* ``spring_index`` (design rule): 4 <= C <= 12 (Shigley);
+* ``initial_tension`` (design rule): tau_i inside the preferred range of Shigley
+  ch. 10 (after spring makers' data), ``33500/exp(0.105 C) +- 1000 (4 - (C-3)/6.5)``
+  psi (about ``231/exp(0.105 C) +- 6.9 (4 - (C-3)/6.5)`` MPa), both sides: what a
+  coiler can wind in and hold. The range is given for steel wire and applied unscaled
+  to every material;
+* ``low_index``: C >= 2, where the correction factors are evaluated (held at C = 2 below);
+* ``active_coils``: Na >= 3.
 
 Size: along the stroke L0 + 2d (L0 already spans the hooks' inner faces; 2d adds the
 hook wire beyond them) + u_max, with Nb taken as Na there (the box has no material;
@@ -167,6 +171,7 @@ class HelicalExtension(ElementKind):
         below = lo / np.maximum(tau_i, 1e-3 * lo) - 1.0
         return {
             "spring_index": np.maximum(C / INDEX_MAX, INDEX_MIN / C) - 1.0,
+            "low_index": INDEX_FACTOR_FLOOR / C - 1.0,
             "active_coils": ACTIVE_COILS_MIN / Na - 1.0,
             "initial_tension": np.maximum(below, tau_i / hi - 1.0),
         }
@@ -221,8 +226,10 @@ KIND = HelicalExtension(
         Param("initial_tension_N", "N", 0.01, 200.0, log=True, doc="initial tension Fi", tolerance="tension"),
     ),
     forms=("wire",),
-    validity=("spring index 4 <= D/d <= 12; active coils >= 3; initial-tension stress 8 Fi D/(pi d^3) "
-              "inside the preferred range 231/exp(0.105 C) +- 6.9 (4 - (C-3)/6.5) MPa"),
+    validity=("active coils >= 3; spring index D/d >= 2. Design rules: spring index 4 <= D/d <= 12; "
+              "initial-tension stress 8 Fi D/(pi d^3) inside the preferred range "
+              "231/exp(0.105 C) +- 6.9 (4 - (C-3)/6.5) MPa"),
+    design_rules=frozenset({"spring_index", "initial_tension"}),
     sources=(
         "R.G. Budynas & J.K. Nisbett, Shigley's Mechanical Engineering Design, 9th ed., ch. 10, "
         "extension springs: rate with Na = Nb + G/E, free length, preferred initial-tension range, "

@@ -25,7 +25,7 @@ from springsynth.assembly.design import Design
 from springsynth.assembly.evaluate import evaluate_population
 from springsynth.assembly.slots import Slots
 from springsynth.io.design_toml import design_to_toml, load_design, read_toml
-from springsynth.io.files import new_folder, write_bytes_atomic, write_text_atomic
+from springsynth.io.files import new_folder, safe_folder_name, write_bytes_atomic, write_text_atomic
 from springsynth.io.study_toml import load_study
 from springsynth.model.errors import InputError
 from springsynth.model.safety import CAUTION
@@ -36,7 +36,8 @@ from springsynth.report.html import REPORT, ReportInput, render_report
 if TYPE_CHECKING:  # the run folder only reads a result's fields; the search is not loaded to write one
     from springsynth.search.synthesis import Synthesis
 
-__all__ = ["write_run", "read_run", "build_report", "RunFolder", "CHECKPOINT"]
+__all__ = ["write_run", "read_run", "build_report", "RunFolder", "CHECKPOINT", "run_of_design", "run_target",
+           "default_run_folder", "resumed_run_folder"]
 
 #: file holding the search state of an interrupted run (``springsynth run --resume``)
 CHECKPOINT = "checkpoint.pkl"
@@ -74,7 +75,7 @@ def curves_frame(study: Study, designs: tuple[Design, ...]) -> pd.DataFrame:
 
 def write_run(res: Synthesis, out: Path, *, parent: str | None = None, overrides: list[str] = (),
               plots: bool = True, resumed_from: str | None = None) -> Path:
-    """Write the run folder; returns its path (a new folder, never an existing one)."""
+    """Write the run folder; returns its path (a new folder or an existing empty one, never one with files in it)."""
     st = res.study
     folder = new_folder(out)
     (folder / "designs").mkdir()
@@ -164,6 +165,42 @@ def read_run(path: Path, *, with_study: bool = True) -> RunFolder:
         raise InputError(f"pareto.csv cannot be read ({e})", where=str(path)) from None
     designs = tuple(load_design(path / "designs" / f"{i}.toml") for i in table.get("design_id", []))
     return RunFolder(path, meta, table, designs)
+
+
+def default_run_folder(study_name: str) -> Path:
+    """``runs/<name>-<time>``, the study's name made a safe folder name (it may hold ``/`` or ``..``)."""
+    from datetime import datetime
+
+    return Path("runs") / f"{safe_folder_name(study_name, fallback='run')}-{datetime.now().strftime('%Y%m%d-%H%M%S')}"
+
+
+def resumed_run_folder(run: Path) -> Path:
+    """Where a resumed run finishes: beside the interrupted one, ``<run>-resumed`` (the interrupted
+    run stays as it was; resuming a resumed run does not stack suffixes)."""
+    import re
+
+    run = Path(run).resolve()
+    return run.parent / f"{re.sub(r'-resumed(-[0-9]+)?$', '', run.name)}-resumed"
+
+
+def run_of_design(path: Path) -> Path | None:
+    """The run folder a design file was written into (``<run>/designs/<id>.toml``), else None."""
+    path = Path(path).resolve()
+    run = path.parent.parent
+    if path.parent.name == "designs" and (run / "run.json").is_file() and (run / "target.csv").is_file():
+        return run
+    return None
+
+
+def run_target(run: Path):
+    """The target a run searched for: its study's (with the run's overrides) or, for a run
+    written from a study built in code, its ``target.csv``."""
+    from springsynth.io.target_csv import load_target
+
+    run = Path(run)
+    if (run / "study.toml").is_file():
+        return read_run(run).study().target
+    return load_target(run / "target.csv")
 
 
 def _report_input(folder: Path | RunFolder, study: Study | None) -> ReportInput:

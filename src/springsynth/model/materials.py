@@ -16,7 +16,7 @@ from __future__ import annotations
 import csv
 import dataclasses
 import math
-from dataclasses import dataclass
+from dataclasses import dataclass, field
 from functools import lru_cache
 from importlib import resources
 from typing import Any, Mapping, Sequence
@@ -33,7 +33,11 @@ __all__ = [
     "FORMS",
     "LAWS",
     "N_OGDEN",
+    "DEFAULT_STRAIN_LIMIT",
 ]
+
+#: stands for an unknown (NaN) property when materials are compared
+_NAN = ("nan",)
 
 #: Product forms a material is supplied in; each element kind names the forms it needs.
 FORMS = ("wire", "strip", "bulk", "elastomer")
@@ -41,8 +45,20 @@ LAWS = ("linear", "neo_hookean", "mooney_rivlin", "ogden")
 #: Ogden terms held per material (zero-padded).
 N_OGDEN = 3
 
+#: strain_limit of an inline hyperelastic material that gives none: the nominal strain to which
+#: each law's form is usually trusted for rubber, capped at 1.0, the value every catalogue
+#: elastomer carries. neo-Hookean 0.5: the Gaussian-network (neo-Hookean) form follows simple
+#: extension of rubber to a stretch of about 1.5 and then departs from it (L.R.G. Treloar, The
+#: Physics of Rubber Elasticity, 3rd ed., Oxford 1975, ch. 5 and 10 [memory]; common practice);
+#: Mooney-Rivlin 1.0: the Mooney plot of simple extension is straight to a stretch of about 2
+#: (Treloar 1975 ch. 10; R.S. Rivlin & D.W. Saunders, Phil. Trans. R. Soc. A 243:251, 1951
+#: [memory]); Ogden 1.0: the three-term law follows Treloar's data to a stretch of about 7
+#: (R.W. Ogden, Proc. R. Soc. Lond. A 326:565, 1972), capped at the catalogue's 1.0 [common
+#: practice: elastomer springs work far below their break strain].
+DEFAULT_STRAIN_LIMIT = {"neo_hookean": 0.5, "mooney_rivlin": 1.0, "ogden": 1.0}
 
-@dataclass(frozen=True)
+
+@dataclass(frozen=True, eq=False)
 class Material:
     """One material, validated when built. Stresses and moduli in MPa.
 
@@ -72,6 +88,14 @@ class Material:
     strain_limit : float
         Largest nominal strain the law is trusted to (elastomers), NaN otherwise.
     source : str
+    notices : tuple of str
+        What the reader filled in for the user (e.g. a default strain limit); not part of
+        the material's identity.
+
+    Notes
+    -----
+    Two materials are equal when every property is, with unknown values (NaN) equal to
+    each other, so a material equals its own copy read back from a checkpoint.
     """
 
     id: str
@@ -92,6 +116,27 @@ class Material:
     ogden_alpha: tuple[float, ...] = ()
     strain_limit: float = math.nan
     source: str = ""
+    notices: tuple[str, ...] = field(default=(), compare=False, repr=False)
+
+    def _identity(self) -> tuple:
+        """The compared fields, NaN replaced by a marker that equals itself (NaN != NaN); computed once."""
+        ident = self.__dict__.get("_identity_")
+        if ident is None:
+            ident = tuple(_NAN if isinstance(v, float) and math.isnan(v) else v
+                          for v in (getattr(self, name) for name in _COMPARED))
+            object.__setattr__(self, "_identity_", ident)
+        return ident
+
+    def __getstate__(self) -> dict:
+        return {k: v for k, v in self.__dict__.items() if k != "_identity_"}
+
+    def __eq__(self, other: object) -> bool:
+        if other.__class__ is not self.__class__:
+            return NotImplemented
+        return self._identity() == other._identity()
+
+    def __hash__(self) -> int:
+        return hash(self._identity())
 
     def __post_init__(self):
         where = f"material {self.id!r}"
@@ -129,6 +174,10 @@ class Material:
     def suits(self, forms: Sequence[str]) -> bool:
         """Whether the material comes in any of ``forms``."""
         return any(f in self.forms for f in forms)
+
+
+#: the fields that make a material's identity (all but ``notices``)
+_COMPARED = tuple(f.name for f in dataclasses.fields(Material) if f.compare)
 
 
 # --------------------------------------------------------------------------- laws
@@ -182,7 +231,8 @@ def material_from_mapping(mid: str, d: Mapping[str, Any], *, where: str) -> Mate
 
     Linear-elastic entries need ``E_MPa``, ``density_kg_m3`` and ``yield_MPa``; ``G_MPa``
     defaults to ``E/(2(1+nu))`` and ``nu`` to 0.3. Hyperelastic entries give ``law``
-    and its constants; E and G then follow from the initial shear modulus.
+    and its constants; E and G then follow from the initial shear modulus, and a missing
+    ``strain_limit`` takes the law's :data:`DEFAULT_STRAIN_LIMIT`, said in ``Material.notices``.
     """
     from springsynth.model.suggest import unknown_key_message
 
@@ -197,6 +247,7 @@ def material_from_mapping(mid: str, d: Mapping[str, Any], *, where: str) -> Mate
         raise InputError(f"law must be a string, got {law!r}", where=where)
     mu, alpha = _ogden_from_law(law, d, where)
     get = lambda k, default=math.nan: _number(d[k], f"{where}.{k}") if k in d else default  # noqa: E731
+    notices: list[str] = []
     density = get("density_kg_m3")
     if math.isnan(density):
         raise InputError("density_kg_m3 is required", where=where)
@@ -223,8 +274,12 @@ def material_from_mapping(mid: str, d: Mapping[str, Any], *, where: str) -> Mate
         nu = get("nu", 0.499)
         G = mu0
         E = 2 * mu0 * (1 + nu)
-        strain_limit = get("strain_limit")
-        yld = get("yield_MPa", E * (strain_limit if math.isfinite(strain_limit) else 0.5))
+        strain_limit = get("strain_limit", DEFAULT_STRAIN_LIMIT[law])
+        if "strain_limit" not in d:
+            notices.append(f"{where}: no strain_limit given; using {strain_limit:g}, the nominal strain to which "
+                           f"the {law} law is usually trusted (common practice); set strain_limit to your "
+                           "material's own limit")
+        yld = get("yield_MPa", E * strain_limit)
         uts = get("uts_MPa", yld)
         forms = forms or ["elastomer"]
     if isinstance(forms, str):
@@ -237,7 +292,7 @@ def material_from_mapping(mid: str, d: Mapping[str, Any], *, where: str) -> Mate
             yield_MPa=yld, uts_MPa=uts, fatigue_MPa=get("fatigue_MPa"), sut_A_MPa=get("sut_A_MPa"),
             sut_m=get("sut_m"), torsion_share=get("torsion_share"), forms=tuple(forms), law=law,
             ogden_mu_MPa=mu, ogden_alpha=alpha, strain_limit=strain_limit,
-            source=str(d.get("source", "defined inline by the user")),
+            source=str(d.get("source", "defined inline by the user")), notices=tuple(notices),
         )
     except InputError as e:  # name the file and table, not only the material id
         raise InputError(str(e).removeprefix(f"material {mid!r}: "), where=where) from None

@@ -27,14 +27,15 @@ def size_text(v: float) -> str:
     return thousands(v) if abs(v) >= 1000 else f"{v:.3g}"
 
 
-def pct_text(v: float, *, decimals: int = 2, below: str = "< 0.01") -> str:
-    """A percentage with a fixed number of decimals, ``< 0.01 %`` for what rounds to nothing,
-    ``n/a`` when not finite (never ``3.03e-14 %``)."""
-    if not math.isfinite(v):
-        return "n/a"
-    if abs(v) < 0.5 * 10.0**-decimals:
-        return f"{below} %"
-    return f"{v:.{decimals}f} %"
+def pct_text(v: float, *, decimals: int = 2, below: str | None = None, suffix: str = " %", missing: str = "n/a") -> str:
+    """A percentage with a fixed number of decimals, ``< 0.01 %`` for what is not zero but rounds
+    to it, ``missing`` (``n/a``) when not finite (never ``3.03e-14 %``); ``suffix=""`` for a
+    table column whose header carries the unit."""
+    if v is None or not math.isfinite(v):
+        return missing
+    if v != 0 and abs(v) < 0.5 * 10.0**-decimals:
+        return f"{below or f'< {10.0**-decimals:.{decimals}f}'}{suffix}"
+    return f"{v:.{decimals}f}{suffix}"
 
 
 def table_number(v: float) -> str:

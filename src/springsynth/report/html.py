@@ -31,7 +31,7 @@ import pandas as pd
 
 from springsynth.assembly.design import Design
 from springsynth.assembly.evaluate import Response, evaluate_design
-from springsynth.elements import get_kind
+from springsynth.elements import get_kind, split_margins
 from springsynth.model.numbers import pct_text, size_text, thousands
 from springsynth.model.safety import CAUTION
 from springsynth.model.study import Study
@@ -225,7 +225,12 @@ def _big(v: float) -> str:
 
 
 def _pct(v) -> str:
-    return _number(v, lambda f: "&lt; 0.01" if abs(f) < 0.005 else f"{f:.3g}")
+    return _number(v, lambda f: _e(pct_text(f, suffix="")))
+
+
+def _extra_num(column: str, v) -> str:
+    """An extra column's number: percentages (``*_pct``) as percentages, others to four digits."""
+    return _pct(v) if str(column).endswith("_pct") else _num(v)
 
 
 def _sort_value(v) -> str:
@@ -327,7 +332,7 @@ def _pareto_table(run: ReportInput, roles: Mapping[str, list[str]]) -> str:
                  f'{"yes" if feas[i] else "no"}</span></td>']
         for c in extras:
             v = r.get(c)
-            cells.append(_cell(v, numeric=_is_numeric(tab[c]), text=None if not _is_numeric(tab[c]) else _num(v)))
+            cells.append(_cell(v, numeric=_is_numeric(tab[c]), text=None if not _is_numeric(tab[c]) else _extra_num(c, v)))
         topo = by_id[did].topology() if did in by_id else r.get("topology", "")
         cells.append(f"<td class=topo>{_e(topo)}</td>")
         body.append("<tr>" + "".join(cells) + "</tr>")
@@ -411,7 +416,7 @@ def _card(run: ReportInput, i: int, d: Design, r: Response, png: bytes | None, r
     extras = [c for c in extra_columns(run.table) if not (isinstance(row.get(c), float) and math.isnan(row.get(c)))]
     if extras:
         parts.append("<h4>Verification and tolerance</h4><dl class=summary>"
-                     + "".join(f"<dt>{_e(c)}</dt><dd>{_num(row.get(c)) if _is_numeric(run.table[c]) else _e(row.get(c))}"
+                     + "".join(f"<dt>{_e(c)}</dt><dd>{_extra_num(c, row.get(c)) if _is_numeric(run.table[c]) else _e(row.get(c))}"
                                f"</dd>" for c in extras) + "</dl>")
     parts.append("<h4>Elements</h4>" + _elements_table(d))
     parts.append("<h4>Materials</h4>" + _materials_table(d))
@@ -423,10 +428,13 @@ def _card(run: ReportInput, i: int, d: Design, r: Response, png: bytes | None, r
     if maker is not None:
         parts.append(maker_section(maker))
     parts.append(f"<details><summary>Model validity and sources</summary>{_model_notes(d)}</details>")
-    outside = {k: float(v[0]) for k, v in r.validity.items() if float(v[0]) > 0}
-    if outside:
-        parts.append("<p class=viol>Outside a model's valid range: "
-                     + _e(", ".join(f"{k} +{100 * v:.0f} %" for k, v in outside.items())) + "</p>")
+    model, rules = split_margins({k: float(v[0]) for k, v in r.validity.items() if float(v[0]) > 0})
+    if model:
+        parts.append("<p class=viol>Outside a model's valid range (forces not trustworthy beyond it): "
+                     + _e(", ".join(f"{k} +{pct_text(100 * v, decimals=1)}" for k, v in model.items())) + "</p>")
+    if rules:
+        parts.append("<p class=sub>Harder to make (a design rule of the trade is broken; the model still holds): "
+                     + _e(", ".join(f"{k} +{pct_text(100 * v, decimals=1)}" for k, v in rules.items())) + "</p>")
     parts.append(f'<p class=sub>Design file: <code>designs/{_e(d.name)}.toml</code></p></section>')
     return "".join(parts)
 

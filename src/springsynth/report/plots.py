@@ -564,7 +564,7 @@ def plot_tolerance(res: ToleranceResult, *, target=None, ax=None):
         ax.plot(target.x_mm, target.force_N, "o", color="black", ms=3.5, label="target")
     title = f"{res.design}: {res.force_N.shape[0]} Monte Carlo parts"
     if math.isfinite(res.share_in_band):
-        title += f", {100 * res.share_in_band:.1f} % inside the band"
+        title += f", {pct_text(100 * res.share_in_band, decimals=1)} inside the band"
     ax.set_title(title, fontsize=10)
     ax.set_xlabel("displacement [mm]")
     ax.set_ylabel("force [N]")

@@ -11,14 +11,15 @@ import numpy as np
 import pandas as pd
 
 from springsynth.assembly.design import Design
-from springsynth.elements import get_kind
+from springsynth.elements import get_kind, split_margins
 from springsynth.model.errors import InputError
+from springsynth.model.numbers import pct_text
 from springsynth.model.study import Study
 from springsynth.search.encoding import Encoding
 from springsynth.search.loop import Progress, run_search
 from springsynth.search.scoring import CONSTRAINTS
 
-__all__ = ["synthesize", "Synthesis", "design_table"]
+__all__ = ["synthesize", "Synthesis", "design_table", "fitting_designs"]
 
 _CONSTRAINT_WORDS = {
     "curve_error": "curve error exceeds limits.max_error_pct",
@@ -26,6 +27,7 @@ _CONSTRAINT_WORDS = {
     "envelope_cross": "cross-section exceeds the envelope",
     "stress": "stress ratio exceeds limits.stress_ratio",
     "validity": "an element leaves its model's valid range",
+    "design_rule": "an element breaks a design rule (harder to make)",
     "min_thickness": "a thickness is below limits.min_thickness_mm",
     "mass": "mass exceeds limits.max_mass_g",
 }
@@ -72,6 +74,8 @@ class Synthesis:
     verified: dict = field(default_factory=dict)
     #: design id -> share of Monte Carlo parts inside the target band (targets with a band)
     in_spec: dict = field(default_factory=dict)
+    #: what the caller should know (e.g. warm-start designs left out because they no longer fit)
+    notices: tuple[str, ...] = ()
 
     def to_frame(self) -> pd.DataFrame:
         return design_table(self)
@@ -83,12 +87,24 @@ class Synthesis:
         parts.sort(reverse=True)
         out = []
         for v, name in parts:
-            detail = ""
-            if name == "validity":
-                worst = {k: a[i] for k, a in self.validity.items() if a[i] > 0}
-                detail = " (" + ", ".join(f"{k} +{100 * a:.0f}%" for k, a in sorted(worst.items(), key=lambda kv: -kv[1])) + ")"
-            out.append(f"{_CONSTRAINT_WORDS[name]} by {100 * v:.1f}%{detail}" if v < 1e5 else f"{name}: model failed (NaN)")
+            if v >= 1e5:
+                out.append(f"{name}: model failed (NaN)")
+            elif name == "validity":
+                out += self._validity_words(i)
+            else:
+                out.append(f"{_CONSTRAINT_WORDS[name]} by {pct_text(100 * v, decimals=1)}")
         return "; ".join(out)
+
+    def _validity_words(self, i: int) -> list[str]:
+        """The validity constraint of design ``i`` in words: model limits and design rules apart."""
+        out = []
+        worst = {k: float(a[i]) for k, a in self.validity.items() if a[i] > 0}
+        for key, group in zip(("validity", "design_rule"), split_margins(worst)):
+            if group:
+                items = sorted(group.items(), key=lambda kv: -kv[1])
+                out.append(f"{_CONSTRAINT_WORDS[key]} by {pct_text(100 * items[0][1], decimals=1)} ("
+                           + ", ".join(f"{k} +{pct_text(100 * a, decimals=1)}" for k, a in items) + ")")
+        return out or [f"{_CONSTRAINT_WORDS['validity']}"]
 
 
 def design_table(res: Synthesis) -> pd.DataFrame:
@@ -146,7 +162,9 @@ def synthesize(study: Study, *, seed: int | None = None, population: int | None 
     seed, population, generations : int, optional
         Override the study's ``[search]`` values. Same study and seed give the same result.
     warm_start : sequence of Design
-        Designs placed in the first population (e.g. an earlier run's Pareto set).
+        Designs placed in the first population (e.g. an earlier run's Pareto set). Those
+        with no element of a kind and material the study allows are left out, and
+        ``Synthesis.notices`` says which (see :func:`fitting_designs`).
     on_generation : callable, optional
         Called with a :class:`Progress` after every generation.
     should_stop : callable, optional
@@ -154,17 +172,23 @@ def synthesize(study: Study, *, seed: int | None = None, population: int | None 
         results so far with ``partial=True`` and a ``checkpoint``.
     resume : bytes, optional
         A checkpoint from an interrupted search: continue it (the study, seed and budget
-        stored in it are used); the result equals an uninterrupted run's.
+        stored in it are used, for the search and for decoding its designs; the result's
+        ``study`` is the checkpoint's); the result equals an uninterrupted run's.
     """
     s = study.search
     seed = s.seed if seed is None else int(seed)
     population = s.population if population is None else int(population)
     generations = s.generations if generations is None else int(generations)
     enc = Encoding(study)
-    X0 = enc.encode(list(warm_start)) if warm_start else None
+    kept, dropped = fitting_designs(study, warm_start)
+    notices = (_dropped_notice(dropped),) if dropped else ()
+    X0 = enc.encode(kept) if kept else None
     out = run_search(study, seed=seed, population=population, generations=generations, warm_start=X0,
                      on_generation=on_generation, polish=s.polish, should_stop=should_stop, resume=resume)
     seed, population, generations = out.budget
+    if out.study is not study:   # resumed: decode with the checkpoint's own study, not the caller's
+        study, s = out.study, out.study.search
+        enc = Encoding(study)
     slots = enc.decode(out.X)
     designs = tuple(slots.design(i, name=f"D{i + 1:02d}") for i in range(slots.n))
     sc = out.scores
@@ -181,8 +205,33 @@ def synthesize(study: Study, *, seed: int | None = None, population: int | None 
         evaluations=out.evaluations, history=out.history, polish=out.polish,
         validity={k: np.asarray(v) for k, v in sc.response.validity.items()},
         partial=out.partial, checkpoint=out.checkpoint, verified=verified, in_spec=in_spec,
-        timings={**out.timings, **({"verification_s": t_verify} if verified else {})},
+        timings={**out.timings, **({"verification_s": t_verify} if verified else {})}, notices=notices,
     )
+
+
+def fitting_designs(study: Study, designs: Sequence[Design]) -> tuple[list[Design], list[Design]]:
+    """``(kept, dropped)``: the designs that can seed a search of ``study`` and those that cannot.
+
+    A design fits when at least one of its elements is of a kind, and in a material, the
+    study allows (what :meth:`Encoding.encode` can place in the genome); elements that
+    do not fit are left out of the seed, designs with none are dropped.
+    """
+    enc = Encoding(study)
+    kept, dropped = [], []
+    for d in designs:
+        try:
+            enc.encode([d])
+        except ValueError:
+            dropped.append(d)
+        else:
+            kept.append(d)
+    return kept, dropped
+
+
+def _dropped_notice(dropped: Sequence[Design]) -> str:
+    names = ", ".join(d.name for d in dropped)
+    return (f"{len(dropped)} starting design(s) left out ({names}): none of their elements is of a kind and "
+            "material this study allows")
 
 
 def _in_spec_top(study: Study, designs, ids) -> dict[str, float]:
