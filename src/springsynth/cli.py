@@ -10,16 +10,13 @@ from pathlib import Path
 from typing import List, Optional
 
 import typer
-from rich import box
 from rich.console import Console
 from rich.markup import escape
-from rich.padding import Padding
 from rich.table import Table
-from rich.text import Text
 from typer.core import TyperGroup
 
 from springsynth.model.errors import InputError
-from springsynth.model.numbers import pct_text, size_text, table_number
+from springsynth.model.numbers import pct_text
 
 try:  # typer from 0.2x carries its own copy of click, whose exceptions it raises
     from typer._click import exceptions as _cx
@@ -56,11 +53,9 @@ def _usage_line(e, argv: list[str]) -> str:
     if isinstance(e, _cx.BadParameter) and param is not None:
         opts = getattr(param, "opts", ())
         for i, a in enumerate(argv):
-            if a in opts and i + 1 < len(argv):
-                msg += f" (got {argv[i + 1]!r})"
-                break
-            if any(a.startswith(f"{o}=") for o in opts):
-                msg += f" (got {a.partition('=')[2]!r})"
+            name, eq, val = a.partition("=")
+            if name in opts and (eq or i + 1 < len(argv)):
+                msg += f" (got {val if eq else argv[i + 1]!r})"
                 break
     ctx = getattr(e, "ctx", None)
     return msg + (f"; see `{ctx.command_path} --help`" if ctx is not None else "")
@@ -106,19 +101,15 @@ def _material_notices(materials) -> None:
 def _validity_messages(outside: dict[str, float]) -> None:
     """Margins beyond their bound, in two kinds: where a model's accuracy ends (a warning) and
     where only a rule of the trade is broken (a notice: harder to make, forces still valid)."""
-    from springsynth.elements import split_margins
-
-    def words(group):
-        return escape(", ".join(f"{k} +{pct_text(100 * v, decimals=1)}" if math.isfinite(v) else f"{k} (model failed)"
-                                for k, v in sorted(group.items(), key=lambda kv: -kv[1])))
+    from springsynth.elements import margin_text, split_margins
 
     model, rules = split_margins(outside)
     if model:
-        err.print(f"[bold yellow]warning:[/] outside the models' valid range ({words(model)}): forces not "
-                  "trustworthy beyond it")
+        err.print(f"[bold yellow]warning:[/] outside the models' valid range ({escape(margin_text(model))}): forces "
+                  "not trustworthy beyond it")
     if rules:
-        err.print(f"notice: harder to make: {words(rules)} beyond a design rule of the trade; the model still "
-                  "holds there (see `springsynth elements`)")
+        err.print(f"notice: harder to make: {escape(margin_text(rules))} beyond a design rule of the trade; the model "
+                  "still holds there (see `springsynth elements`)")
 
 
 # ------------------------------------------------------------------------- evaluate
@@ -209,27 +200,10 @@ def elements(fmt: Fmt = typer.Option(Fmt.table, "--format", help="table or csv")
 
         sys.stdout.write(pd.DataFrame(rows).to_csv(index=False, lineterminator="\n"))
         return
-    for k in registry().values():
-        out.print(Text.assemble((k.name, "bold"), f": {k.title}"), soft_wrap=False)
-        t = Table(show_edge=False, box=box.SIMPLE_HEAD, pad_edge=False)
-        for c in ("parameter", "unit", "range", "scale", "meaning"):
-            t.add_column(c, no_wrap=c != "meaning")
-        for q in k.params:
-            t.add_row(q.name, q.unit, " | ".join(q.choices) if q.choices else f"{q.lo:g} .. {q.hi:g}",
-                      "log" if q.log else "lin", q.doc)
-        out.print(t)
-        notes = [f"made from: {' or '.join(k.forms)} material; stroke: {k.stroke_note}", f"valid: {k.validity}"]
-        if k.design_rules:
-            notes.append(f"design rules (a notice when broken, the model still holds): {', '.join(sorted(k.design_rules))}")
-        notes += [f"stress: {k.stress_note}"] * bool(k.stress_note) + [f"source: {s}" for s in k.sources]
-        for n in notes:
-            out.print(Padding(escape(n), (0, 0, 0, 2)), soft_wrap=False)
-        out.print()
+    from springsynth.report.terminal import kind_sections
 
-
-#: short names of the material forms and laws in the 80-column materials table
-_FORM_CODES = {"wire": "W", "strip": "S", "bulk": "B", "elastomer": "E"}
-_LAW_CODES = {"linear": "", "neo_hookean": "neo-H", "mooney_rivlin": "M-R", "ogden": "Ogden"}
+    for part in kind_sections(registry().values()):
+        out.print(part, soft_wrap=False)
 
 
 @app.command()
@@ -242,35 +216,21 @@ def materials(fmt: Fmt = typer.Option(Fmt.table, "--format", help="table or csv"
 
     from springsynth.elements import registry
     from springsynth.model.materials import catalogue
+    from springsynth.report.terminal import materials_table
 
+    if fmt == Fmt.table:
+        for part in materials_table(catalogue().values(), registry().values()):
+            out.print(part, soft_wrap=False)
+        return
     rows = []
     for m in catalogue().values():
-        d = dataclasses.asdict(m)
-        d.pop("notices")
+        d = {k: v for k, v in dataclasses.asdict(m).items() if k != "notices"}
         d["forms"] = " ".join(m.forms)
         d["ogden_mu_MPa"] = " ".join(f"{v:g}" for v in m.ogden_mu_MPa)
         d["ogden_alpha"] = " ".join(f"{v:g}" for v in m.ogden_alpha)
         d["kinds"] = " ".join(k.name for k in registry().values() if m.suits(k.forms))
         rows.append(d)
-    if fmt == Fmt.csv:
-        sys.stdout.write(pd.DataFrame(rows).to_csv(index=False, lineterminator="\n"))
-        return
-    t = Table(title="materials: moduli and strengths in MPa, density in kg/m³", title_justify="left",
-              box=box.SIMPLE_HEAD, show_edge=False, pad_edge=False, collapse_padding=True)
-    for c in ("id", "E", "G", "nu", "density", "yield", "fatigue", "law", "forms"):
-        t.add_column(c, justify="left" if c in ("id", "law", "forms") else "right", no_wrap=True)
-    for r in rows:
-        t.add_row(r["id"], table_number(r["E_MPa"]), table_number(r["G_MPa"]), f"{r['nu']:.3g}",
-                  table_number(r["density_kg_m3"]), table_number(r["yield_MPa"]), table_number(r["fatigue_MPa"]),
-                  _LAW_CODES[r["law"]], " ".join(_FORM_CODES[f] for f in r["forms"].split()))
-    out.print(t)
-    kinds = registry().values()
-    legend = ["forms (the kinds made from them): " + "; ".join(
-        f"{code} {form} ({', '.join(k.name for k in kinds if form in k.forms)})" for form, code in _FORM_CODES.items()),
-        "law (elastomers; blank: linear elastic): neo-H neo-Hookean, M-R Mooney-Rivlin, Ogden",
-        "Typical values; grade and process move them. `--format csv` gives every field and the sources."]
-    for n in legend:
-        out.print(Padding(escape(n), (0, 0, 0, 2)), style="dim", soft_wrap=False)
+    sys.stdout.write(pd.DataFrame(rows).to_csv(index=False, lineterminator="\n"))
 
 
 # ------------------------------------------------------------------------- check
@@ -331,15 +291,10 @@ def _progress_runner(study, **kw):
 
 
 def _finish_run(res, folder):
+    from springsynth.report.terminal import pareto_table
+
     df = res.to_frame()
-    t = Table(title=escape(f"Pareto set: {len(df)} designs in {folder}"), title_justify="left")
-    for c, j in (("id", "left"), ("error %", "right"), ("stress ratio", "right"), ("size mm³", "right"),
-                 ("mass g", "right"), ("topology", "left")):
-        t.add_column(c, justify=j, overflow="fold", no_wrap=c != "topology")
-    for _, r in df.head(12).iterrows():
-        t.add_row(escape(str(r.design_id)), pct_text(r.curve_error_pct, suffix=""), f"{r.stress_ratio:.3g}",
-                  size_text(r.size_mm3), f"{r.mass_g:.3g}", escape(r.topology))
-    out.print(t)
+    out.print(pareto_table(df, f"Pareto set: {len(df)} designs in {folder}"))
     if len(df) > 12:
         out.print(f"... {len(df) - 12} more in {folder / 'pareto.csv'}")
     if res.polish.get("improved"):
@@ -449,17 +404,11 @@ def rerun(
 ):
     """The same study with settings changed, warm-started from the run's Pareto designs."""
     from springsynth.io.runfolder import default_run_folder, read_run, write_run
-    from springsynth.search.synthesis import fitting_designs
-
     parent = read_run(run_dir)
     st = parent.study(set_)
     _material_notices(st.search.materials)
-    kept, dropped = fitting_designs(st, parent.designs)
-    if dropped:
-        err.print(escape(f"notice: {len(dropped)} of the run's {len(parent.designs)} designs left out as starting "
-                         f"points ({', '.join(d.name for d in dropped)}): none of their elements is of a kind and "
-                         "material the changed study allows"))
-    res = _progress_runner(st, population=population, generations=generations, seed=seed, warm_start=kept)
+    res = _progress_runner(st, population=population, generations=generations, seed=seed,
+                           warm_start=parent.designs)   # designs that no longer fit are left out, with a notice
     overrides = list(parent.meta.get("overrides", [])) + list(set_)
     folder = write_run(res, out_dir or default_run_folder(st.name), parent=str(run_dir), overrides=overrides)
     _finish_run(res, folder)
@@ -569,30 +518,13 @@ def report(run_dir: Path = typer.Argument(..., metavar="RUN", help="a run folder
 # ------------------------------------------------------------------------- verify and tolerance
 
 def _stroke_points(at, to, points, where, design: Path):
-    """Stroke points from --at TARGET.csv, --to X (with --points N) or, for a design written into a
-    run folder, the run's own target; returns ``(x, target or None, what the target is called)``."""
-    import numpy as np
+    """``(x, target or None, its name)`` from --at, --to/--points or the run the design came from."""
+    from springsynth.io.stroke import stroke_points
 
-    from springsynth.io.runfolder import run_of_design, run_target
-    from springsynth.io.target_csv import load_target
-
-    if at is not None and to is not None:
-        raise InputError("give either --at TARGET.csv or --to X, not both", where=where)
-    if at is not None:
-        t = load_target(at)
-        return t.x_mm, t, str(at)
-    run = run_of_design(design) if to is None else None
-    if run is not None:
-        t = run_target(run)
-        out.print(escape(f"at the {t.x_mm.size} points of the target of run {run} (--at or --to to choose others)"))
-        return t.x_mm, t, f"the run's target ({run / 'target.csv'})"
-    if to is None:
-        raise InputError("say where to evaluate: --to X (mm, with --points N) or --at TARGET.csv", where=where)
-    if not (math.isfinite(to) and to > 0):
-        raise InputError(f"--to must be a positive number of mm, got {to}", where=where)
-    if points < 2:
-        raise InputError(f"--points must be at least 2, got {points}", where=where)
-    return np.linspace(0.0, to, points), None, ""
+    sp = stroke_points(design, at=at, to=to, points=points, where=where)
+    if sp.run is not None:
+        out.print(escape(f"at the {sp.x_mm.size} points of the target of run {sp.run} (--at or --to to choose others)"))
+    return sp.x_mm, sp.target, sp.target_name
 
 
 @app.command()
@@ -636,26 +568,11 @@ def verify(
 
 
 def _print_verification(reports) -> None:
-    """The deviations as a table ("not compared" where nothing was), then each kind's method."""
     from springsynth.checks.verify import THRESHOLD_PCT
+    from springsynth.report.terminal import verification_table
 
-    tab = Table(title=f"independent verification (deviation, % of the largest value; flagged above "
-                      f"{THRESHOLD_PCT:g} %)", title_justify="left")
-    for c, j in (("design", "left"), ("element", "left"), ("kind", "left"), ("force dev %", "right"),
-                 ("stress dev %", "right")):
-        tab.add_column(c, justify=j, no_wrap=c != "kind", overflow="fold")
-    fmt = lambda v: pct_text(v, suffix="", missing="not compared")  # noqa: E731
-    methods: dict[str, str] = {}
-    for rep in reports:
-        for _, r in rep.to_frame().iterrows():
-            mark = "[bold yellow]" if r.flagged else ""
-            tab.add_row(escape(str(r.design_id)), str(r.element), r.kind or "", mark + fmt(r.force_dev_pct),
-                        mark + fmt(r.stress_dev_pct))
-            if r.kind and r.method:
-                methods.setdefault(r.kind, r.method)
-    out.print(tab)
-    for k, m in methods.items():
-        out.print(Padding(escape(f"{k}: {m}"), (0, 0, 0, 2)), soft_wrap=False)
+    for part in verification_table(reports, THRESHOLD_PCT):
+        out.print(part, soft_wrap=False)
 
 
 @app.command()

@@ -110,15 +110,8 @@ def test_rerun_set_reaches_the_study(parent, captured, tmp_path, key):
     r = runner.invoke(app, ["rerun", str(parent), *sets, "--out", str(tmp_path / "re")])
     assert isinstance(r.exception, _Stop), r.output
     assert get(captured["study"]) == expected
-    # warm-started from the parent's designs that still fit (an element of an allowed kind and material;
-    # the others are left out with a notice), with the command's own budget untouched
-    st = captured["study"]
-    kinds, mats = {k.name: k for k in st.search.kinds}, {m.id: m for m in st.search.materials}
-    fits = [d.name for d in read_run(parent).designs
-            if any(e.kind in kinds and e.material in mats and mats[e.material].suits(kinds[e.kind].forms)
-                   for e in d.elements)]
-    assert [d.name for d in captured["kw"]["warm_start"]] == fits
-    assert ("left out as starting points" in r.output) == (len(fits) < len(read_run(parent).designs))
+    # warm-started from the parent's designs, with the command's own budget untouched
+    assert len(captured["kw"]["warm_start"]) == len(read_run(parent).designs)
     assert captured["kw"]["population"] is None and captured["kw"]["generations"] is None
 
 

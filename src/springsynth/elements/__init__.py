@@ -7,14 +7,16 @@ Every public module in this package (a name not starting with ``_``) that define
 from __future__ import annotations
 
 import importlib
+import math
 import pkgutil
 from functools import lru_cache
 from typing import Mapping
 
 from springsynth.elements._base import TOLERANCE_CLASSES, ElementKind, Param, missing_declarations
+from springsynth.model.numbers import pct_text
 
 __all__ = ["ElementKind", "Param", "TOLERANCE_CLASSES", "missing_declarations", "registry", "get_kind", "kind_names",
-           "design_rule_names", "split_margins"]
+           "design_rule_names", "split_margins", "margin_text"]
 
 
 @lru_cache(maxsize=1)
@@ -63,3 +65,11 @@ def split_margins(margins: Mapping[str, float]) -> tuple[dict[str, float], dict[
     """
     rules = design_rule_names()
     return ({k: v for k, v in margins.items() if k not in rules}, {k: v for k, v in margins.items() if k in rules})
+
+
+def margin_text(margins: Mapping[str, float]) -> str:
+    """``buckling +12.0 %, spring_index +4.2 %``: margins beyond their bound in words, worst first
+    (``model failed`` for a margin that is not a number)."""
+    items = sorted(margins.items(), key=lambda kv: -kv[1] if math.isfinite(kv[1]) else -math.inf)
+    return ", ".join(f"{k} +{pct_text(100 * v, decimals=1)}" if math.isfinite(v) else f"{k} (model failed)"
+                     for k, v in items)

@@ -31,7 +31,7 @@ import pandas as pd
 
 from springsynth.assembly.design import Design
 from springsynth.assembly.evaluate import Response, evaluate_design
-from springsynth.elements import get_kind, split_margins
+from springsynth.elements import get_kind, margin_text, split_margins
 from springsynth.model.numbers import pct_text, size_text, thousands
 from springsynth.model.safety import CAUTION
 from springsynth.model.study import Study
@@ -430,11 +430,11 @@ def _card(run: ReportInput, i: int, d: Design, r: Response, png: bytes | None, r
     parts.append(f"<details><summary>Model validity and sources</summary>{_model_notes(d)}</details>")
     model, rules = split_margins({k: float(v[0]) for k, v in r.validity.items() if float(v[0]) > 0})
     if model:
-        parts.append("<p class=viol>Outside a model's valid range (forces not trustworthy beyond it): "
-                     + _e(", ".join(f"{k} +{pct_text(100 * v, decimals=1)}" for k, v in model.items())) + "</p>")
+        parts.append(f"<p class=viol>Outside a model's valid range (forces not trustworthy beyond it): "
+                     f"{_e(margin_text(model))}</p>")
     if rules:
-        parts.append("<p class=sub>Harder to make (a design rule of the trade is broken; the model still holds): "
-                     + _e(", ".join(f"{k} +{pct_text(100 * v, decimals=1)}" for k, v in rules.items())) + "</p>")
+        parts.append(f"<p class=sub>Harder to make (a design rule of the trade is broken; the model still holds): "
+                     f"{_e(margin_text(rules))}</p>")
     parts.append(f'<p class=sub>Design file: <code>designs/{_e(d.name)}.toml</code></p></section>')
     return "".join(parts)
 

@@ -11,7 +11,7 @@ import numpy as np
 import pandas as pd
 
 from springsynth.assembly.design import Design
-from springsynth.elements import get_kind, split_margins
+from springsynth.elements import get_kind, margin_text, split_margins
 from springsynth.model.errors import InputError
 from springsynth.model.numbers import pct_text
 from springsynth.model.study import Study
@@ -101,9 +101,8 @@ class Synthesis:
         worst = {k: float(a[i]) for k, a in self.validity.items() if a[i] > 0}
         for key, group in zip(("validity", "design_rule"), split_margins(worst)):
             if group:
-                items = sorted(group.items(), key=lambda kv: -kv[1])
-                out.append(f"{_CONSTRAINT_WORDS[key]} by {pct_text(100 * items[0][1], decimals=1)} ("
-                           + ", ".join(f"{k} +{pct_text(100 * a, decimals=1)}" for k, a in items) + ")")
+                out.append(f"{_CONSTRAINT_WORDS[key]} by {pct_text(100 * max(group.values()), decimals=1)} "
+                           f"({margin_text(group)})")
         return out or [f"{_CONSTRAINT_WORDS['validity']}"]
 
 
