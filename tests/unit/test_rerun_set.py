@@ -48,6 +48,9 @@ CASES = {
     "name": ('"renamed"', lambda st: st.name, "renamed", ()),
     "description": ('"a lighter variant"', lambda st: st.raw.get("description"), "a lighter variant", ()),
     "target.file": ("OTHER", lambda st: (st.target.x_mm.size, st.target.stroke_mm), (5, 8.0), ()),
+    # the parent's target ends at 6 mm and 10.2 N (3 + 1.2 x): scaled by 2 and 1.5
+    "target.scale_force": ("2", lambda st: round(float(st.target.force_N[-1]), 9), 20.4, ()),
+    "target.scale_stroke": ("1.5", lambda st: st.target.stroke_mm, 9.0, ()),
     "envelope.length_mm": ("55", lambda st: st.envelope.length_mm, 55.0, ()),
     "envelope.width_mm": ("33.5", lambda st: st.envelope.width_mm, 33.5, ()),
     "envelope.height_mm": ("25", lambda st: st.envelope.height_mm, 25.0, ()),
