@@ -21,6 +21,7 @@ from springsynth.model.version import __version__
 __all__ = [
     "__version__",
     "Design",
+    "Duty",
     "Element",
     "ElementKind",
     "Envelope",
@@ -34,6 +35,7 @@ __all__ = [
     "catalogue",
     "design_to_toml",
     "evaluate_design",
+    "fatigue_design",
     "load_design",
     "load_study",
     "load_target",
@@ -46,7 +48,8 @@ _HOME = {
     "evaluate_design": "springsynth.assembly.evaluate", "design_to_toml": "springsynth.io.design_toml", "load_design": "springsynth.io.design_toml",
     "InputError": "springsynth.model.errors", "Material": "springsynth.model.materials", "catalogue": "springsynth.model.materials", "Study": "springsynth.model.study",
     "load_study": "springsynth.io.study_toml", "Synthesis": "springsynth.search.synthesis", "synthesize": "springsynth.search.synthesis", "Target": "springsynth.model.target",
-    "load_target": "springsynth.io.target_csv", "ElementKind": "springsynth.elements", "Param": "springsynth.elements", "registry": "springsynth.elements",
+    "load_target": "springsynth.io.target_csv", "Duty": "springsynth.model.study",
+    "fatigue_design": "springsynth.checks.fatigue", "ElementKind": "springsynth.elements", "Param": "springsynth.elements", "registry": "springsynth.elements",
 }
 
 

@@ -68,6 +68,14 @@ CASES = {
     "search.polish": ("true", lambda st: st.search.polish, True, ()),
     "search.verify_top": ("2", lambda st: st.search.verify_top, 2, ()),
     "search.robust": ("true", lambda st: st.search.robust, True, ()),
+    "limits.fatigue_ratio": ("0.7", lambda st: st.limits.fatigue_ratio, 0.7, ("duty.cycles=1e6",)),
+    "search.objectives": ('["curve_error_pct", "stress_ratio", "size_mm3", "fatigue_ratio"]',
+                          lambda st: st.search.objectives,
+                          ("curve_error_pct", "stress_ratio", "size_mm3", "fatigue_ratio"), ("duty.cycles=1e6",)),
+    "duty.cycles": ("1e6", lambda st: st.duty and st.duty.cycles, 1e6, ()),
+    "duty.stroke_min_mm": ("1.5", lambda st: st.duty and st.duty.stroke_min_mm, 1.5, ()),
+    "duty.stroke_max_mm": ("4.5", lambda st: st.duty and st.duty.stroke_max_mm, 4.5, ()),
+    "duty.shot_peened": ("true", lambda st: st.duty and st.duty.shot_peened, True, ()),
     "materials": ('{lab_steel = {E_MPa = 190000, nu = 0.3, density_kg_m3 = 7800, yield_MPa = 1200, '
                   'forms = ["strip", "wire"]}}',
                   lambda st: [(m.id, m.E_MPa) for m in st.search.materials], [("lab_steel", 190000.0)],
@@ -137,6 +145,8 @@ def test_rerun_budget_options_pass_through(parent, captured, tmp_path):
     ("envelope.length_mm=-1", ["[envelope].length_mm", "-1"]),
     ("search.population=2.5", ["population", "2.5"]),
     ('search.elements=["blade_guidd"]', ["blade_guidd"]),
+    ("duty.cycels=1e6", ["did you mean 'cycles'"]),
+    ("duty.stroke_max_mm=60", ["stroke_max_mm = 60", "beyond the target's last point"]),
 ])
 def test_malformed_set_is_one_line(parent, tmp_path, setting, words):
     before = sorted(p.name for p in parent.iterdir())

@@ -8,6 +8,7 @@ from typing import Mapping
 from springsynth.elements import get_kind
 from springsynth.model.errors import InputError
 from springsynth.model.materials import Material
+from springsynth.model.study import Duty
 
 __all__ = ["Element", "Design", "MAX_COUNT"]
 
@@ -54,11 +55,15 @@ class Element:
 
 @dataclass(frozen=True)
 class Design:
-    """A mechanism: elements in parallel, with the materials they name resolved."""
+    """A mechanism: elements in parallel, with the materials they name resolved.
+
+    ``duty``: the service it must survive (a design file's ``[duty]``), or None.
+    """
 
     elements: tuple[Element, ...]
     materials: Mapping[str, Material]
     name: str = "design"
+    duty: Duty | None = None
 
     def __post_init__(self):
         object.__setattr__(self, "elements", tuple(self.elements))

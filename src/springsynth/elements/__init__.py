@@ -12,11 +12,18 @@ import pkgutil
 from functools import lru_cache
 from typing import Mapping
 
-from springsynth.elements._base import TOLERANCE_CLASSES, ElementKind, Param, missing_declarations
+from springsynth.elements._base import (
+    FATIGUE_MODES,
+    TOLERANCE_CLASSES,
+    ElementKind,
+    FatigueLoad,
+    Param,
+    missing_declarations,
+)
 from springsynth.model.numbers import pct_text
 
-__all__ = ["ElementKind", "Param", "TOLERANCE_CLASSES", "missing_declarations", "registry", "get_kind", "kind_names",
-           "design_rule_names", "split_margins", "margin_text"]
+__all__ = ["ElementKind", "Param", "TOLERANCE_CLASSES", "FATIGUE_MODES", "FatigueLoad", "missing_declarations", "registry",
+           "get_kind", "kind_names", "design_rule_names", "split_margins", "margin_text"]
 
 
 @lru_cache(maxsize=1)

@@ -25,7 +25,8 @@ import numpy as np
 
 from springsynth.model.materials import MaterialArrays
 
-__all__ = ["Param", "ElementKind", "Params", "TOLERANCE_CLASSES", "missing_declarations", "DENSITY_TO_G_PER_MM3"]
+__all__ = ["Param", "ElementKind", "Params", "TOLERANCE_CLASSES", "FATIGUE_MODES", "FatigueLoad", "missing_declarations",
+           "DENSITY_TO_G_PER_MM3"]
 
 Params = Mapping[str, np.ndarray]
 
@@ -41,6 +42,42 @@ TOLERANCE_CLASSES = {
     "set_radius": "a prestressed strip's natural radius, set by forming",
     "none": "not perturbed (a choice, or a quantity the process does not scatter)",
 }
+
+#: what a kind's fatigue check reads (``ElementKind.fatigue``); the criterion of each is in
+#: :mod:`springsynth.checks.fatigue` (``CRITERIA``)
+FATIGUE_MODES = {
+    "normal": "bending or axial stress of a strip, plate or bar",
+    "wire_bending": "bending stress of a round spring wire",
+    "torsion": "torsional shear of coil-spring wire",
+    "shear": "a shear stress (below a contact)",
+    "elastomer": "the nominal strain of an elastomer",
+}
+#: stroke points over a duty cycle for a kind whose stress is not monotonic in the stroke
+FATIGUE_GRID = 33
+
+
+@dataclass(frozen=True)
+class FatigueLoad:
+    """One place of an element where fatigue is checked, over one duty cycle; arrays shape (n,).
+
+    Attributes
+    ----------
+    mode : str
+        A key of :data:`FATIGUE_MODES`: which criterion judges it.
+    low, high : ndarray, shape (n,)
+        The governing stress at the cycle's extremes, MPa (``elastomer``: nominal strain, -).
+    ultimate : ndarray, shape (n,)
+        Tensile strength of the material as made, MPa (wire: S_ut(d)).
+    per_duty : ndarray, shape (n,)
+        Stress cycles of this range per duty cycle (2 where the stress peaks inside the stroke,
+        counted conservatively as two full cycles).
+    """
+
+    mode: str
+    low: np.ndarray
+    high: np.ndarray
+    ultimate: np.ndarray
+    per_duty: np.ndarray
 
 
 @dataclass(frozen=True)
@@ -117,6 +154,8 @@ class ElementKind:
                             forces stay exact beyond them, the part is only harder to make. Every
                             other margin marks where the model's accuracy ends. A margin name means
                             the same in every kind that uses it.
+    fatigue : str           what the fatigue check under a duty reads, a key of :data:`FATIGUE_MODES`
+                            (default ``normal``; override :meth:`fatigue_loads` for several places)
     """
 
     name: str = ""
@@ -132,6 +171,7 @@ class ElementKind:
     verification: str = ""
     verify_quick: bool = True
     design_rules: frozenset[str] = frozenset()
+    fatigue: str = "normal"
     extra: dict = field(default_factory=dict, compare=False, repr=False)
 
     # ---- kernels (override) ---------------------------------------------------------
@@ -179,6 +219,32 @@ class ElementKind:
         every one a kind returns. Values are per copy, on the element's own stroke ``u``.
         """
         return {}
+
+    # ---- fatigue (optional override) ------------------------------------------------
+    def fatigue_ultimate(self, p: Params, mat: MaterialArrays) -> np.ndarray:
+        """Tensile strength of the material as made, MPa, shape (n,) (default: its ``uts``)."""
+        return mat.uts
+
+    def fatigue_loads(self, p: Params, mat: MaterialArrays, u_lo: np.ndarray,
+                      u_hi: np.ndarray) -> dict[str, FatigueLoad]:
+        """The stress range of one duty cycle between the element strokes ``u_lo`` and ``u_hi`` (n,).
+
+        Returns one :class:`FatigueLoad` per checked place, keyed by a short name (``""``:
+        the governing stress of :meth:`stress`). With a monotonic stress the extremes are
+        the stresses at the two strokes; otherwise the stroke is sampled and a stress that
+        peaks (or dips) inside it counts as two cycles per duty cycle.
+        """
+        if self.monotonic_stress:
+            s = self.stress(p, mat, np.stack([u_lo, u_hi], axis=1))
+            per = np.ones(u_lo.shape)
+        else:
+            t = np.linspace(0.0, 1.0, FATIGUE_GRID)[None, :]
+            s = self.stress(p, mat, u_lo[:, None] + (u_hi - u_lo)[:, None] * t)
+            ends_lo, ends_hi = np.minimum(s[:, 0], s[:, -1]), np.maximum(s[:, 0], s[:, -1])
+            tol = 1e-9 * np.maximum(np.abs(ends_hi), 1e-300)
+            inside = (s.max(axis=1) > ends_hi + tol) | (s.min(axis=1) < ends_lo - tol)
+            per = np.where(inside, 2.0, 1.0)
+        return {"": FatigueLoad(self.fatigue, s.min(axis=1), s.max(axis=1), self.fatigue_ultimate(p, mat), per)}
 
     # ---- search coordinates (optional override) ------------------------------------
     @property
@@ -246,4 +312,6 @@ def missing_declarations(kind: ElementKind) -> list[str]:
     if not kind.sources:
         out.append("sources")
     out += [f"{q.name}.tolerance" for q in kind.params if q.tolerance not in TOLERANCE_CLASSES]
+    if kind.fatigue not in FATIGUE_MODES:
+        out.append(f"fatigue (one of {', '.join(FATIGUE_MODES)})")
     return out

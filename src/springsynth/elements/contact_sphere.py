@@ -11,6 +11,11 @@ First yield (von Mises) occurs below the surface when p0 = 1.60 Y for nu = 0.3
 (Johnson 1985, sec. 6.2 [memory]); the governing stress reported here is p0 and its
 allowable 1.60 Y, so the stress ratio is the ratio to first yield.
 
+Fatigue (under a duty): the largest shear stress below the surface, 0.31 p0 at depth 0.48 a
+for nu = 0.3 (Johnson 1985, sec. 3.4 [memory]; taken for every nu), at the two ends of the
+duty, judged as a shear stress (:mod:`springsynth.checks.fatigue`). A screen for repeated
+pressing of the same spot, not a rolling-contact life.
+
 Valid while the contact stays small against the radius, a/R <= 0.1
 (common practice for Hertz theory), frictionless and elastic.
 """
@@ -21,10 +26,12 @@ import math
 
 import numpy as np
 
-from springsynth.elements._base import DENSITY_TO_G_PER_MM3, ElementKind, Param
+from springsynth.elements._base import DENSITY_TO_G_PER_MM3, ElementKind, FatigueLoad, Param
 
 #: p0 at first yield / Y for a sphere, nu = 0.3 (Johnson 1985, sec. 6.2) [memory]
 P0_YIELD_FACTOR = 1.60
+#: largest shear stress below the contact / p0, at depth 0.48 a, for nu = 0.3 (Johnson 1985, sec. 3.4 [memory])
+MAX_SHEAR_FACTOR = 0.31
 #: largest contact radius / sphere radius for Hertz theory (common practice)
 A_OVER_R_MAX = 0.1
 
@@ -46,6 +53,11 @@ class ContactSphere(ElementKind):
     def allowable(self, p, mat):
         return P0_YIELD_FACTOR * mat.yield_
 
+    def fatigue_loads(self, p, mat, u_lo, u_hi):
+        """The largest shear stress below the contact, 0.31 p0, at the two strokes of a duty cycle."""
+        p0 = self.stress(p, mat, np.stack([u_lo, u_hi], axis=1)) * MAX_SHEAR_FACTOR
+        return {"": FatigueLoad(self.fatigue, p0.min(axis=1), p0.max(axis=1), mat.uts, np.ones(u_lo.shape))}
+
     def validity_margins(self, p, mat, u_max):
         a_over_R = np.sqrt(u_max / p["radius_mm"])
         return {"contact_size": a_over_R / A_OVER_R_MAX - 1.0}
@@ -62,6 +74,7 @@ KIND = ContactSphere(
     name="contact_sphere",
     glyph="sphere",
     verification="hertz",
+    fatigue="shear",
     title="sphere pressed on a flat of the same material (Hertz contact), F ~ u^1.5",
     params=(Param("radius_mm", "mm", 0.5, 50.0, log=True, doc="sphere radius", tolerance="linear"),),
     forms=("bulk",),

@@ -76,6 +76,10 @@ a yield stress, so the governing quantity is the nominal compressive strain. ``s
 returns its equivalent E u/t (MPa) and ``allowable`` E * strain_limit, so the stress
 ratio equals (u/t) / strain_limit.
 
+Fatigue (under a duty): the same nominal compressive strain u/t at the two ends of the duty,
+judged by the elastomer criterion of :mod:`springsynth.checks.fatigue` against the material's
+``fatigue_strain`` (rated on this same measure).
+
 Linear-elastic materials carry no Ogden series: their force is zero and the margin
 ``needs_hyperelastic_law`` marks the design infeasible.
 """
@@ -84,7 +88,7 @@ from __future__ import annotations
 
 import numpy as np
 
-from springsynth.elements._base import DENSITY_TO_G_PER_MM3, ElementKind, Param
+from springsynth.elements._base import DENSITY_TO_G_PER_MM3, ElementKind, FatigueLoad, Param
 from springsynth.elements._stretching import ogden_uniaxial_nominal
 
 #: homogeneous share c_h = C_H[0] + C_H[1] ln(a/b) + C_H[2] ln(a/b)^2 (fitted, see Notes)
@@ -299,6 +303,11 @@ class ElastomerPad(ElementKind):
         lim = np.where(np.isfinite(mat.strain_limit), mat.strain_limit, MODEL_STRAIN_LIMIT)
         return mat.E * lim
 
+    def fatigue_loads(self, p, mat, u_lo, u_hi):
+        """The nominal compressive strain u/t at the two strokes of a duty cycle."""
+        t = p["thickness_mm"]
+        return {"": FatigueLoad(self.fatigue, u_lo / t, u_hi / t, mat.uts, np.ones(t.shape))}
+
     def validity_margins(self, p, mat, u_max):
         L, W, t = p["length_mm"], p["width_mm"], p["thickness_mm"]
         eps = u_max / t
@@ -325,6 +334,7 @@ KIND = ElastomerPad(
     glyph="pad",
     verification="pad_fe",
     verify_quick=False,
+    fatigue="elastomer",
     title="bonded elastomer block compressed through its thickness (hyperelastic law + compressible layer flow)",
     params=(
         Param("length_mm", "mm", 2.0, 200.0, log=True, doc="block length L (loaded face)", tolerance="linear"),

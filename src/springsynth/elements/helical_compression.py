@@ -56,6 +56,9 @@ Validity (each a normalised margin, <= 0 inside). Two are rules of the trade, li
 * ``helix_angle``: pitch angle at free length <= 12 deg, the small-helix-angle
   assumption of the rate and stress formulas.
 
+Fatigue (under a duty): the same corrected shear K_B 8FD/(pi d^3) at the two ends of the
+duty, judged in torsion (:mod:`springsynth.checks.fatigue`) against the wire strength S_ut(d).
+
 Outside the index range the correction factors are evaluated at max(C, 2) so that
 the stress stays finite and positive (K_B diverges at C = 0.75); such designs are
 flagged by ``spring_index`` anyway.
@@ -167,6 +170,9 @@ class HelicalCompression(ElementKind):
     def allowable(self, p, mat):
         return torsional_allowable(p["wire_diameter_mm"], mat)
 
+    def fatigue_ultimate(self, p, mat):
+        return wire_strength(p["wire_diameter_mm"], mat)
+
     def validity_margins(self, p, mat, u_max):
         d, D = p["wire_diameter_mm"], p["mean_diameter_mm"]
         Na, L0 = p["active_coils"], p["free_length_mm"]
@@ -223,6 +229,7 @@ KIND = HelicalCompression(
     name="helical_compression",
     glyph="compression_coil",
     verification="coil_compression",
+    fatigue="torsion",
     title="helical compression spring, round wire, squared-and-ground ends; linear rate",
     params=(
         Param("wire_diameter_mm", "mm", 0.1, 6.0, log=True, thickness=True, doc="wire diameter d", tolerance="wire"),

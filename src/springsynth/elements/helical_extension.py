@@ -36,6 +36,11 @@ bending. :meth:`stress` returns one *body-equivalent* stress,
 so that the stress ratio is the largest of the three ratios. Outside the index
 range the factors are evaluated at max(C, 2), as for compression springs.
 
+Fatigue (under a duty; :mod:`springsynth.checks.fatigue`): the three places are checked
+apart, as in Shigley's extension-spring fatigue example: body shear (with the initial
+tension's stress even at rest) and hook torsion at B in torsion, hook bending at A as wire
+in bending; the hooks carry no load while the spring is not pulled (u = 0).
+
 Validity (normalised margins, <= 0 inside). ``spring_index`` and ``initial_tension`` are
 rules of the trade (``design_rules``): the force law holds beyond them, the spring is only
 harder to make (the search still keeps to them):
@@ -65,7 +70,7 @@ import math
 
 import numpy as np
 
-from springsynth.elements._base import DENSITY_TO_G_PER_MM3, ElementKind, Param
+from springsynth.elements._base import DENSITY_TO_G_PER_MM3, ElementKind, FatigueLoad, Param
 from springsynth.elements.helical_compression import (
     ACTIVE_COILS_MIN,
     COIL_SEARCH,
@@ -163,6 +168,26 @@ class HelicalExtension(ElementKind):
     def allowable(self, p, mat):
         return self._allowables(p, mat)[0]
 
+    def fatigue_loads(self, p, mat, u_lo, u_hi):
+        """Body shear, hook torsion at B and hook bending at A over a duty cycle (module notes)."""
+        d, D = p["wire_diameter_mm"], p["mean_diameter_mm"]
+        C = np.maximum(D / d, INDEX_FACTOR_FLOOR)
+        nominal = 8.0 * D / (math.pi * d**3)
+        k, Fi = self._rate(p, mat), p["initial_tension_N"]
+        sut = wire_strength(d, mat)
+        one = np.ones(d.shape)
+
+        def force(u, hooks):     # the hooks carry load only once the spring is pulled (u > 0)
+            return np.where(u > 0.0, Fi + k * u, 0.0 if hooks else Fi)
+
+        places = {
+            "body": ("torsion", bergstrasser_factor(C) * nominal, False),
+            "hook_torsion": ("torsion", hook_torsion_factor(HOOK_C2) * nominal, True),
+            "hook_bending": ("wire_bending", hook_bending_factor(C) * 2.0 * nominal + 4.0 / (math.pi * d**2), True),
+        }
+        return {name: FatigueLoad(mode, per_N * force(u_lo, hooks), per_N * force(u_hi, hooks), sut, one)
+                for name, (mode, per_N, hooks) in places.items()}
+
     def validity_margins(self, p, mat, u_max):
         d, D, Na = p["wire_diameter_mm"], p["mean_diameter_mm"], p["active_coils"]
         C = D / d
@@ -218,6 +243,7 @@ KIND = HelicalExtension(
     name="helical_extension",
     glyph="extension_coil",
     verification="coil_extension",
+    fatigue="torsion",
     title="helical extension spring, round wire, full-loop hooks; initial tension plus linear rate",
     params=(
         Param("wire_diameter_mm", "mm", 0.1, 6.0, log=True, thickness=True, doc="wire diameter d", tolerance="wire"),

@@ -33,6 +33,11 @@ yield strength. Ribbon life is governed by this stress (handbooks give life char
 terms of S, equivalently R_n/t, of a few thousand to some tens of thousands of cycles);
 a stress ratio below 1 is a static check only, not a fatigue rating.
 
+Fatigue (under a duty): every stretch of strip that leaves the drum during a duty cycle goes
+from the drum curvature to straight and back, a stress cycle from S (1 - 1/DRUM_RATIO) (the
+strip is bent on the drum to a radius DRUM_RATIO R_n, larger than its natural radius) to S,
+once per duty cycle; a ribbon that does not move carries S steadily.
+
 Validity: 50 <= R_n/t <= 1000 (common practice puts R_n/t at 50 or more; above 1000 the
 coiling prestress is under 0.05 % strain, outside handbook practice - project choice),
 b/t >= 10 (wide-strip assumption of the 26.4 factor). Long unsupported strokes need
@@ -45,7 +50,7 @@ import math
 
 import numpy as np
 
-from springsynth.elements._base import DENSITY_TO_G_PER_MM3, ElementKind, Param
+from springsynth.elements._base import DENSITY_TO_G_PER_MM3, ElementKind, FatigueLoad, Param
 
 #: handbook factor for the plateau force F = E b t^3 / (26.4 R_n^2) (spring handbooks, common practice)
 HANDBOOK_FACTOR = 26.4
@@ -90,6 +95,13 @@ class Ribbon(ElementKind):
 
     def allowable(self, p, mat):
         return mat.yield_
+
+    def fatigue_loads(self, p, mat, u_lo, u_hi):
+        """Each stretch of strip that leaves the drum cycles from the drum's bending stress to S."""
+        S = mat.E * p["thickness_mm"] / (2.0 * p["natural_radius_mm"])
+        moves = u_hi > u_lo
+        low = np.where(moves, S * (1.0 - 1.0 / DRUM_RATIO), S)
+        return {"": FatigueLoad(self.fatigue, low, S, mat.uts, np.ones(S.shape))}
 
     def validity_margins(self, p, mat, u_max):
         t = p["thickness_mm"]
@@ -149,6 +161,6 @@ KIND = Ribbon(
     monotonic_stress=True,
     stress_note=(
         "bending stress E t/(2 R_n) of the straightened strip, constant over the stroke, allowable = yield; "
-        "ribbon life is governed by this stress - check fatigue life separately"
+        "ribbon life is governed by this stress: give the study a [duty] to judge it"
     ),
 )

@@ -21,6 +21,9 @@ Assumptions and validity: Euler-Bernoulli beam, linear elastic, inextensible, lo
 perpendicular to the undeformed wire, no axial force; u / L <= 0.5; L / d >= 10
 (common practice; shear then adds about 2 % of compliance).
 
+Fatigue (under a duty): the bending stress at the two ends of the duty, judged as spring wire
+in bending (:mod:`springsynth.checks.fatigue`) against the wire strength S_ut(d).
+
 References: K.E. Bisshopp & D.C. Drucker, Q. Appl. Math. 3(3):272-275, 1945;
 small-deflection limit, common practice (Roark's Formulas for Stress and Strain);
 L.L. Howell, Compliant Mechanisms, Wiley 2001 (pseudo-rigid-body cross-check).
@@ -32,6 +35,7 @@ import math
 
 from springsynth.elements import _elastica
 from springsynth.elements._base import DENSITY_TO_G_PER_MM3, ElementKind, Param
+from springsynth.elements.helical_compression import wire_strength
 
 #: Largest stroke / length inside the model's declared range.
 STROKE_LIMIT = _elastica.GUIDED_XI_MAX
@@ -51,6 +55,9 @@ class WireGuided(ElementKind):
         inv_L = 1.0 / L
         scale = mat.E * d * inv_L**2                            # sigma = E d u B / L^2
         return _elastica.scaled_series(_elastica.guided_fit().moment, u, inv_L, scale)
+
+    def fatigue_ultimate(self, p, mat):
+        return wire_strength(p["wire_diameter_mm"], mat)
 
     def validity_margins(self, p, mat, u_max):
         L, d = p["length_mm"], p["wire_diameter_mm"]
@@ -72,6 +79,7 @@ KIND = WireGuided(
     name="wire_guided",
     glyph="guided_wire",
     verification="tip_beam",
+    fatigue="wire_bending",
     title="round-wire flexure, far end guided, large deflection; near-linear, mild stiffening",
     params=(
         Param("length_mm", "mm", 2.0, 200.0, log=True, doc="free length of the wire between clamp and guided end", tolerance="linear"),

@@ -10,15 +10,20 @@ from pathlib import Path
 from typing import Any, Mapping
 
 from springsynth.assembly.design import MAX_COUNT, Design, Element
+from springsynth.checks.fatigue import check_fatigue_data
 from springsynth.elements import get_kind, registry
 from springsynth.model.errors import InputError
 from springsynth.model.materials import Material, catalogue, material_from_mapping
 from springsynth.model.numbers import is_finite_number
+from springsynth.model.study import DEFAULTS, MAX_CYCLES, Duty
 from springsynth.model.suggest import unknown_key_message
 
-__all__ = ["load_design", "design_from_mapping", "design_to_toml", "resolve_materials", "read_toml"]
+__all__ = ["load_design", "design_from_mapping", "design_to_toml", "resolve_materials", "read_toml", "duty_from_mapping",
+           "DUTY_KEYS"]
 
-_TOP_KEYS = {"name", "note", "element", "materials"}
+_TOP_KEYS = {"name", "note", "element", "materials", "duty"}
+#: keys of a [duty] table (defaults in ``springsynth.model.study.DEFAULTS["duty"]``)
+DUTY_KEYS = {"cycles", "stroke_min_mm", "stroke_max_mm", "shot_peened"}
 #: most identical copies of one element in parallel (designs and studies)
 _ELEMENT_KEYS = {"kind", "material", "count", "offset_mm"}
 
@@ -56,6 +61,33 @@ def resolve_materials(inline: Any, where: str) -> dict[str, Material]:
             raise InputError(f"[materials.{mid}] redefines a catalogue material; choose another id", where=where)
         mats[mid] = material_from_mapping(mid, d, where=where)
     return mats
+
+
+def duty_from_mapping(d: Any, where: str) -> Duty:
+    """Validate a ``[duty]`` table of a study or design (``where`` names the file); missing keys take
+    their defaults, ``stroke_max_mm`` stays None when absent (the caller resolves it)."""
+    at = f"{where} [duty]"
+    if not isinstance(d, Mapping):
+        raise InputError("[duty] must be a table", where=where)
+    for k in d:
+        if k not in DUTY_KEYS:
+            raise InputError(unknown_key_message(k, DUTY_KEYS), where=at)
+    v = {**DEFAULTS["duty"], **d}
+
+    def number(key: str, lo: float, hi: float = math.inf) -> float:
+        x = v[key]
+        if isinstance(x, bool) or not isinstance(x, (int, float)) or not is_finite_number(x) or not lo <= x <= hi:
+            rng = f"from {lo:g} to {hi:.0e}".replace("e+", "e") if math.isfinite(hi) else f">= {lo:g}"
+            raise InputError(f"must be a number {rng}, got {x!r}", where=f"{at}.{key}")
+        return float(x)
+
+    cycles, lo = number("cycles", 1.0, MAX_CYCLES), number("stroke_min_mm", 0.0)
+    hi = None if v["stroke_max_mm"] is None else number("stroke_max_mm", 0.0)
+    if hi is not None and hi <= lo:
+        raise InputError(f"must lie above stroke_min_mm = {lo:g}, got {hi:g}", where=f"{at}.stroke_max_mm")
+    if not isinstance(v["shot_peened"], bool):
+        raise InputError(f"must be true or false, got {v['shot_peened']!r}", where=f"{at}.shot_peened")
+    return Duty(cycles=cycles, stroke_min_mm=lo, stroke_max_mm=hi, shot_peened=v["shot_peened"])
 
 
 def _material_message(mid: Any, mats: Mapping[str, Material]) -> str:
@@ -129,7 +161,11 @@ def design_from_mapping(doc: Mapping[str, Any], *, where: str, name: str | None 
         raise InputError("'element' must be an array of tables, written [[element]]", where=where)
     elems = tuple(element_from_mapping(e, mats, f"{where} element {i + 1}") for i, e in enumerate(elements))
     used = {e.material: mats[e.material] for e in elems}
-    return Design(elems, used, name=str(doc.get("name", name or Path(where).stem)))
+    duty = duty_from_mapping(doc["duty"], where) if "duty" in doc else None
+    if duty is not None:
+        for i, e in enumerate(elems):
+            check_fatigue_data(get_kind(e.kind), used[e.material], where=f"{where} element {i + 1}")
+    return Design(elems, used, name=str(doc.get("name", name or Path(where).stem)), duty=duty)
 
 
 def load_design(path: str | Path) -> Design:
@@ -162,10 +198,14 @@ def material_to_table(m: Material) -> dict[str, Any]:
                  strain_limit=m.strain_limit, nu=m.nu, yield_MPa=m.yield_MPa, uts_MPa=m.uts_MPa)
     else:
         d.update(E_MPa=m.E_MPa, G_MPa=m.G_MPa, nu=m.nu, yield_MPa=m.yield_MPa, uts_MPa=m.uts_MPa)
-    for k in ("fatigue_MPa", "sut_A_MPa", "sut_m", "torsion_share"):
+    for k in ("fatigue_MPa", "fatigue_strain", "sut_A_MPa", "sut_m", "torsion_share"):
         v = getattr(m, k)
         if not math.isnan(v):
             d[k] = v
+    if m.fatigue_cycles != 1e7:
+        d["fatigue_cycles"] = m.fatigue_cycles
+    if m.zimmerli:
+        d["zimmerli"] = True
     d["forms"] = list(m.forms)
     d["source"] = m.source
     return d
@@ -180,6 +220,13 @@ def design_to_toml(design: Design, *, header: str = "") -> str:
         if cat.get(mid) == m:
             continue
         lines += ["", f"[materials.{mid}]"] + [f"{k} = {toml_value(v)}" for k, v in material_to_table(m).items()]
+    if design.duty is not None:
+        du = design.duty
+        lines += ["", "[duty]", f"cycles = {float(du.cycles):.6g}",
+                  f"stroke_min_mm = {toml_value(float(du.stroke_min_mm))}"]
+        if du.stroke_max_mm is not None:
+            lines.append(f"stroke_max_mm = {toml_value(float(du.stroke_max_mm))}")
+        lines.append(f"shot_peened = {toml_value(du.shot_peened)}")
     for e in design.elements:
         lines += ["", "[[element]]", f"kind = {toml_value(e.kind)}", f"material = {toml_value(e.material)}",
                   f"count = {e.count}", f"offset_mm = {toml_value(float(e.offset_mm))}"]

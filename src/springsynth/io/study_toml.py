@@ -15,13 +15,14 @@ from pathlib import Path
 from typing import Any, Mapping
 
 from springsynth.assembly.design import MAX_COUNT
+from springsynth.checks.fatigue import check_fatigue_data
 from springsynth.elements import ElementKind, get_kind, registry
-from springsynth.io.design_toml import read_toml, resolve_materials
+from springsynth.io.design_toml import DUTY_KEYS, duty_from_mapping, read_toml, resolve_materials
 from springsynth.io.target_csv import load_target
 from springsynth.model.errors import InputError
 from springsynth.model.materials import Material
 from springsynth.model.numbers import is_finite_number
-from springsynth.model.study import DEFAULTS, Envelope, Limits, SearchOptions, Study
+from springsynth.model.study import BASE_OBJECTIVES, DEFAULTS, OBJECTIVES, Duty, Envelope, Limits, SearchOptions, Study
 from springsynth.model.suggest import unknown_key_message
 from springsynth.model.target import Target
 
@@ -34,10 +35,10 @@ MAX_SCALE = 1e6
 _SCHEMA: dict[str, set[str] | None] = {
     "name": None, "description": None, "target": {"file", "scale_force", "scale_stroke"},
     "envelope": {"length_mm", "width_mm", "height_mm"},
-    "limits": {"stress_ratio", "min_thickness_mm", "max_mass_g", "max_error_pct"},
+    "limits": {"stress_ratio", "min_thickness_mm", "max_mass_g", "max_error_pct", "fatigue_ratio"},
     "search": {"elements", "materials", "max_elements", "max_count", "population", "generations", "seed",
-               "polish", "verify_top", "robust"},
-    "materials": None,
+               "polish", "verify_top", "robust", "objectives"},
+    "materials": None, "duty": DUTY_KEYS,
 }
 
 
@@ -64,10 +65,32 @@ def study_from_mapping(doc: Mapping[str, Any], *, where: str, base_dir: Path) ->
     name = doc.get("name", Path(where).stem)
     if not isinstance(name, str) or not name.strip():
         raise InputError(f"name must be a non-empty string, got {name!r}", where=where)
-    return Study(name=name, target=_target(doc["target"], tpath, where), envelope=_envelope(doc["envelope"], where),
-                 limits=_limits(doc.get("limits", {}), where),
-                 search=_search(doc.get("search", {}), resolve_materials(doc.get("materials"), where), where),
-                 raw=copy.deepcopy(dict(doc)), path=None, target_path=tpath)
+    target = _target(doc["target"], tpath, where)
+    search = _search(doc.get("search", {}), resolve_materials(doc.get("materials"), where), where)
+    duty = _duty(doc, search, target.stroke_mm, where)
+    return Study(name=name, target=target, envelope=_envelope(doc["envelope"], where),
+                 limits=_limits(doc.get("limits", {}), where), search=search,
+                 raw=copy.deepcopy(dict(doc)), path=None, target_path=tpath, duty=duty)
+
+
+def _duty(doc: Mapping[str, Any], search: SearchOptions, stroke_mm: float, where: str) -> Duty | None:
+    """The study's [duty] resolved against the target's stroke, with every searched material checked for
+    the fatigue data its kinds read; None without one (then no key may ask for fatigue)."""
+    if "duty" not in doc:
+        if "fatigue_ratio" in doc.get("limits", {}):
+            raise InputError("limits.fatigue_ratio needs a [duty] table (cycles, stroke_min_mm, stroke_max_mm)",
+                             where=f"{where} [limits]")
+        if "fatigue_ratio" in search.objectives:
+            raise InputError("the objective fatigue_ratio needs a [duty] table (cycles, stroke_min_mm, "
+                             "stroke_max_mm)", where=f"{where} [search].objectives")
+        return None
+    duty = duty_from_mapping(doc["duty"], where).resolved(stroke_mm, where=f"{where} [duty]",
+                                                          end="the target's last point")
+    for kind in search.kinds:
+        for m in search.materials:
+            if m.suits(kind.forms):
+                check_fatigue_data(kind, m, where=f"{where} [search].materials")
+    return duty
 
 
 def _check_keys(doc: Mapping[str, Any], where: str) -> None:
@@ -126,6 +149,7 @@ def _limits(given: Mapping[str, Any], where: str) -> Limits:
         min_thickness_mm=_num(lim["min_thickness_mm"], at + "min_thickness_mm", lo=0.0, strict=False),
         max_mass_g=_num(given["max_mass_g"], at + "max_mass_g", lo=0.0) if "max_mass_g" in given else math.inf,
         max_error_pct=_num(lim["max_error_pct"], at + "max_error_pct", lo=0.0),
+        fatigue_ratio=_num(lim["fatigue_ratio"], at + "fatigue_ratio", lo=0.0),
     )
 
 
@@ -170,10 +194,29 @@ def _search(given: Mapping[str, Any], mats: Mapping[str, Material], where: str) 
         population=whole("population", 4, 100_000), generations=whole("generations", 1, 100_000),
         seed=whole("seed", 0, 2**32 - 1), polish=_bool(s["polish"], at + "polish"),
         verify_top=whole("verify_top", 0, 100_000), robust=_bool(s["robust"], at + "robust"),
+        objectives=_objectives(s["objectives"], at + "objectives"),
     )
     if opts.max_elements > 6:
         raise InputError(f"max_elements must be at most 6, got {opts.max_elements}", where=f"{where} [search]")
     return opts
+
+
+def _objectives(v: Any, where: str) -> tuple[str, ...]:
+    """The objectives list: the base three, then optional ones, each once (any order in the file)."""
+    if isinstance(v, tuple):
+        v = list(v)
+    if not isinstance(v, list) or not all(isinstance(o, str) for o in v):
+        raise InputError(f"must be a list of objective names, got {v!r}", where=where)
+    for o in v:
+        if o not in OBJECTIVES:
+            raise InputError(unknown_key_message(o, OBJECTIVES, what="objective"), where=where)
+    if len(set(v)) != len(v):
+        raise InputError(f"names an objective twice: {v!r}", where=where)
+    missing = [o for o in BASE_OBJECTIVES if o not in v]
+    if missing:
+        raise InputError(f"must include {', '.join(BASE_OBJECTIVES)} (missing {', '.join(missing)}); "
+                         f"it may add {', '.join(o for o in OBJECTIVES if o not in BASE_OBJECTIVES)}", where=where)
+    return BASE_OBJECTIVES + tuple(o for o in OBJECTIVES if o in v and o not in BASE_OBJECTIVES)
 
 
 def _bool(v: Any, where: str) -> bool:

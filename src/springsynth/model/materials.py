@@ -44,6 +44,8 @@ FORMS = ("wire", "strip", "bulk", "elastomer")
 LAWS = ("linear", "neo_hookean", "mooney_rivlin", "ogden")
 #: Ogden terms held per material (zero-padded).
 N_OGDEN = 3
+#: range of ``fatigue_cycles``: the S-N line of the fatigue check starts at 1e3 cycles
+FATIGUE_CYCLES_MIN, FATIGUE_CYCLES_MAX = 1e3, 1e12
 
 #: strain_limit of an inline hyperelastic material that gives none: the nominal strain to which
 #: each law's form is usually trusted for rubber, capped at 1.0, the value every catalogue
@@ -74,7 +76,16 @@ class Material:
     uts_MPa : float
         Tensile strength (used when no wire-size law is given).
     fatigue_MPa : float
-        Endurance or fatigue figure (NaN when unknown); shown as a caution.
+        Fatigue strength in fully reversed bending or axial load at ``fatigue_cycles`` (NaN when
+        unknown): the material's own figure, read by the fatigue check under a duty.
+    fatigue_cycles : float
+        Cycles at which ``fatigue_MPa`` (or ``fatigue_strain``) is stated (default 1e7).
+    zimmerli : bool
+        A steel spring wire to which Zimmerli's torsional endurance data apply (Shigley ch. 10:
+        independent of size, material and strength for spring steels under 10 mm).
+    fatigue_strain : float
+        Elastomers: the largest nominal strain of a cycle from zero survived for ``fatigue_cycles``
+        (NaN when unknown).
     sut_A_MPa, sut_m : float
         Wire tensile strength ``S_ut = A / d^m`` (d in mm); NaN when not a spring wire.
     torsion_share : float
@@ -107,6 +118,9 @@ class Material:
     yield_MPa: float
     uts_MPa: float
     fatigue_MPa: float = math.nan
+    fatigue_cycles: float = 1e7
+    zimmerli: bool = False
+    fatigue_strain: float = math.nan
     sut_A_MPa: float = math.nan
     sut_m: float = math.nan
     torsion_share: float = math.nan
@@ -159,8 +173,21 @@ class Material:
                 raise InputError(f"the {self.law} constants give a non-positive initial shear modulus {mu0:.4g} MPa", where=where)
             if not (math.isfinite(self.strain_limit) and self.strain_limit > 0):
                 raise InputError(f"strain_limit must be a positive number for a hyperelastic law, got {self.strain_limit!r}", where=where)
+        self._check_fatigue(where)
         if not math.isnan(self.torsion_share) and not (0 < self.torsion_share < 1):
             raise InputError(f"torsion_share must lie in (0, 1), got {self.torsion_share!r}", where=where)
+
+    def _check_fatigue(self, where: str) -> None:
+        for name in ("fatigue_MPa", "fatigue_strain"):
+            v = getattr(self, name)
+            if not (isinstance(v, (int, float)) and (math.isnan(v) or (math.isfinite(v) and v > 0))):
+                raise InputError(f"{name} must be a positive number, got {v!r}", where=where)
+        c = self.fatigue_cycles
+        if not (isinstance(c, (int, float)) and math.isfinite(c) and FATIGUE_CYCLES_MIN <= c <= FATIGUE_CYCLES_MAX):
+            raise InputError(f"fatigue_cycles must be a number from {FATIGUE_CYCLES_MIN:.0e} to "
+                             f"{FATIGUE_CYCLES_MAX:.0e}, got {c!r}", where=where)
+        if not isinstance(self.zimmerli, bool):
+            raise InputError(f"zimmerli must be true or false, got {self.zimmerli!r}", where=where)
 
     @property
     def initial_shear_MPa(self) -> float:
@@ -220,7 +247,8 @@ def _number(v: Any, where: str) -> float:
 
 
 _INLINE_KEYS = {
-    "name", "E_MPa", "G_MPa", "nu", "density_kg_m3", "yield_MPa", "uts_MPa", "fatigue_MPa",
+    "name", "E_MPa", "G_MPa", "nu", "density_kg_m3", "yield_MPa", "uts_MPa", "fatigue_MPa", "fatigue_cycles",
+    "zimmerli", "fatigue_strain",
     "sut_A_MPa", "sut_m", "torsion_share", "forms", "law", "mu_MPa", "C10_MPa", "C01_MPa",
     "alpha", "strain_limit", "source",
 }
@@ -289,7 +317,8 @@ def material_from_mapping(mid: str, d: Mapping[str, Any], *, where: str) -> Mate
     try:
         return Material(
             id=mid, name=str(d.get("name", mid)), E_MPa=E, G_MPa=G, nu=nu, density_kg_m3=density,
-            yield_MPa=yld, uts_MPa=uts, fatigue_MPa=get("fatigue_MPa"), sut_A_MPa=get("sut_A_MPa"),
+            yield_MPa=yld, uts_MPa=uts, fatigue_MPa=get("fatigue_MPa"), fatigue_cycles=get("fatigue_cycles", 1e7),
+            zimmerli=d.get("zimmerli", False), fatigue_strain=get("fatigue_strain"), sut_A_MPa=get("sut_A_MPa"),
             sut_m=get("sut_m"), torsion_share=get("torsion_share"), forms=tuple(forms), law=law,
             ogden_mu_MPa=mu, ogden_alpha=alpha, strain_limit=strain_limit,
             source=str(d.get("source", "defined inline by the user")), notices=tuple(notices),
@@ -329,7 +358,9 @@ def catalogue() -> dict[str, Material]:
         out[r["id"]] = Material(
             id=r["id"], name=r["name"], E_MPa=f(r, "E_MPa"), G_MPa=f(r, "G_MPa"), nu=f(r, "nu"),
             density_kg_m3=f(r, "density_kg_m3"), yield_MPa=f(r, "yield_MPa"), uts_MPa=f(r, "uts_MPa"),
-            fatigue_MPa=f(r, "fatigue_MPa"), sut_A_MPa=f(r, "sut_A_MPa"), sut_m=f(r, "sut_m"),
+            fatigue_MPa=f(r, "fatigue_MPa"), fatigue_cycles=f(r, "fatigue_cycles") if r.get("fatigue_cycles", "").strip()
+            else 1e7, zimmerli=r.get("zimmerli", "").strip() == "yes", fatigue_strain=f(r, "fatigue_strain"),
+            sut_A_MPa=f(r, "sut_A_MPa"), sut_m=f(r, "sut_m"),
             torsion_share=f(r, "torsion_share"), forms=tuple(r["forms"].split()), law=law,
             ogden_mu_MPa=mu, ogden_alpha=alpha, strain_limit=f(r, "strain_limit"), source=r["source"],
         )
@@ -353,6 +384,9 @@ class MaterialArrays:
     yield_: np.ndarray
     uts: np.ndarray
     fatigue: np.ndarray
+    fatigue_cycles: np.ndarray
+    zimmerli: np.ndarray      # bool
+    fatigue_strain: np.ndarray
     sut_A: np.ndarray
     sut_m: np.ndarray
     torsion_share: np.ndarray
@@ -378,7 +412,7 @@ class MaterialArrays:
 
     def rows(self, index: np.ndarray) -> "MaterialArrays":
         """Like :meth:`subset`, but each field is gathered only when a kernel first reads it
-        (kernels read a few of the fourteen fields; the assembly calls this per kind)."""
+        (kernels read a few of the seventeen fields; the assembly calls this per kind)."""
         return _GatheredRows(self, np.asarray(index, dtype=np.intp))  # type: ignore[return-value]
 
 
@@ -418,6 +452,8 @@ class _Table:
         self.full = MaterialArrays(
             E=col("E_MPa"), G=col("G_MPa"), nu=col("nu"), rho=col("density_kg_m3"),
             yield_=col("yield_MPa"), uts=col("uts_MPa"), fatigue=col("fatigue_MPa"),
+            fatigue_cycles=col("fatigue_cycles"), zimmerli=np.array([m.zimmerli for m in mats], dtype=bool),
+            fatigue_strain=col("fatigue_strain"),
             sut_A=col("sut_A_MPa"), sut_m=col("sut_m"), torsion_share=col("torsion_share"),
             strain_limit=col("strain_limit"),
             hyperelastic=np.array([m.hyperelastic for m in mats], dtype=bool),

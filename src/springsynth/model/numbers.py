@@ -4,7 +4,7 @@ from __future__ import annotations
 
 import math
 
-__all__ = ["is_finite_number", "thousands", "size_text", "pct_text", "table_number"]
+__all__ = ["is_finite_number", "thousands", "size_text", "pct_text", "table_number", "cycles_text"]
 
 
 def is_finite_number(v: int | float) -> bool:
@@ -43,3 +43,20 @@ def table_number(v: float) -> str:
     if math.isnan(v):
         return ""
     return f"{v:.0f}" if abs(v) >= 100 else f"{v:.3g}"
+
+
+def cycles_text(v: float) -> str:
+    """A number of load cycles: ``34 000``, ``2.1e8``, ``< 1000``, ``> 1e12`` (beyond any fatigue data);
+    ``unlimited`` for inf, ``–`` for NaN (a criterion that gives no life)."""
+    if math.isnan(v):
+        return "–"
+    if math.isinf(v):
+        return "unlimited"
+    if v > 1e12:
+        return "> 1e12"
+    if v < 1000:
+        return "< 1000"
+    if v < 1e7:
+        return thousands(float(f"{v:.2g}"))
+    mant, exp = f"{v:.1e}".split("e")
+    return f"{mant}e{int(exp)}"

@@ -9,7 +9,7 @@ from __future__ import annotations
 import hashlib
 import json
 import math
-from dataclasses import MISSING, dataclass, fields
+from dataclasses import MISSING, dataclass, fields, replace
 from pathlib import Path
 from typing import TYPE_CHECKING, Any, Mapping
 
@@ -22,7 +22,15 @@ from springsynth.model.target import Target
 if TYPE_CHECKING:   # the kinds are elements (the layer above); a study only holds them
     from springsynth.elements import ElementKind
 
-__all__ = ["Envelope", "Limits", "SearchOptions", "Study", "DEFAULTS", "curve_grid"]
+__all__ = ["Envelope", "Limits", "SearchOptions", "Duty", "Study", "DEFAULTS", "OBJECTIVES", "BASE_OBJECTIVES",
+           "curve_grid"]
+
+#: objectives every search minimises, in this order (the first three columns of ``Scores.F``)
+BASE_OBJECTIVES = ("curve_error_pct", "stress_ratio", "size_mm3")
+#: every objective a study may name in ``[search] objectives`` (the base three, then optional ones)
+OBJECTIVES = BASE_OBJECTIVES + ("fatigue_ratio",)
+#: most cycles a duty may ask for (no fatigue data reach further)
+MAX_CYCLES = 1e12
 
 
 @dataclass(frozen=True)
@@ -47,6 +55,8 @@ class Limits:
     max_mass_g: float = math.inf
     #: designs whose curve error exceeds this are not worth showing (a constraint)
     max_error_pct: float = 20.0
+    #: largest fatigue ratio (1 / the Goodman factor of safety) under the study's [duty]
+    fatigue_ratio: float = 1.0
 
 
 @dataclass(frozen=True)
@@ -61,6 +71,65 @@ class SearchOptions:
     polish: bool = True
     verify_top: int = 5
     robust: bool = False
+    #: objectives minimised: the base three, then any of the optional ones (``OBJECTIVES``)
+    objectives: tuple[str, ...] = BASE_OBJECTIVES
+
+
+@dataclass(frozen=True)
+class Duty:
+    """The service a part must survive: ``cycles`` strokes between two positions of the mechanism.
+
+    Attributes
+    ----------
+    cycles : float
+        Load cycles the part must survive (1 ... 1e12).
+    stroke_min_mm, stroke_max_mm : float
+        The mechanism's stroke x cycles between these positions, mm (0 <= min < max).
+        ``stroke_max_mm = None``: not yet known (a design file read without its stroke);
+        :meth:`resolved` sets it to the end of the stroke in service.
+    shot_peened : bool
+        Coil springs are shot-peened (selects Zimmerli's peened data).
+    """
+
+    cycles: float = 1e7
+    stroke_min_mm: float = 0.0
+    stroke_max_mm: float | None = None
+    shot_peened: bool = False
+
+    def __post_init__(self):
+        def bad(v):
+            return isinstance(v, bool) or not isinstance(v, (int, float)) or not math.isfinite(v)
+
+        if bad(self.cycles) or not 1 <= self.cycles <= MAX_CYCLES:
+            raise InputError(f"cycles must be a number from 1 to 1e12, got {self.cycles!r}",
+                             where="[duty]")
+        if bad(self.stroke_min_mm) or self.stroke_min_mm < 0:
+            raise InputError(f"stroke_min_mm must be a number of mm >= 0, got {self.stroke_min_mm!r}",
+                             where="[duty]")
+        hi = self.stroke_max_mm
+        if hi is not None and (bad(hi) or hi <= self.stroke_min_mm):
+            raise InputError(f"stroke_max_mm must be a number of mm above stroke_min_mm = {self.stroke_min_mm:g}, "
+                             f"got {hi!r}", where="[duty]")
+        if not isinstance(self.shot_peened, bool):
+            raise InputError(f"shot_peened must be true or false, got {self.shot_peened!r}", where="[duty]")
+
+    def resolved(self, stroke_end_mm: float, *, where: str = "[duty]", end: str = "the stroke in service") -> "Duty":
+        """This duty with ``stroke_max_mm`` set (default: ``stroke_end_mm``) and checked against it.
+
+        Raises
+        ------
+        InputError
+            When the duty reaches beyond ``stroke_end_mm`` (the models are checked only up to it)
+            or starts at or after it.
+        """
+        hi = stroke_end_mm if self.stroke_max_mm is None else self.stroke_max_mm
+        if hi > stroke_end_mm * (1 + 1e-12):
+            raise InputError(f"stroke_max_mm = {hi:g} lies beyond {end} ({stroke_end_mm:g} mm); "
+                             f"the models are checked only up to it: lower stroke_max_mm", where=where)
+        if self.stroke_min_mm >= hi:
+            raise InputError(f"stroke_min_mm = {self.stroke_min_mm:g} must lie below stroke_max_mm = {hi:g}",
+                             where=where)
+        return replace(self, stroke_max_mm=float(hi))
 
 
 @dataclass(frozen=True)
@@ -75,6 +144,8 @@ class Study:
     raw: Mapping[str, Any]
     path: Path | None = None
     target_path: Path | None = None
+    #: the duty the designs must survive (its stroke resolved against the target), or None: static only
+    duty: Duty | None = None
 
     def hash(self) -> str:
         """SHA-256 of the study's content and its target file's bytes (first 16 hex digits)."""
@@ -89,8 +160,9 @@ def _defaults(cls) -> dict[str, Any]:
     return {f.name: f.default for f in fields(cls) if f.default is not MISSING}
 
 
-#: every optional key of [limits] and [search] with its default (from the dataclasses above)
-DEFAULTS: dict[str, dict[str, Any]] = {"limits": _defaults(Limits), "search": _defaults(SearchOptions)}
+#: every optional key of [limits], [search] and [duty] with its default (from the dataclasses above)
+DEFAULTS: dict[str, dict[str, Any]] = {"limits": _defaults(Limits), "search": _defaults(SearchOptions),
+                                       "duty": _defaults(Duty)}
 
 
 def curve_grid(study: Study, points: int = 101) -> np.ndarray:

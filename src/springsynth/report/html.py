@@ -32,9 +32,10 @@ import pandas as pd
 from springsynth.assembly.design import Design
 from springsynth.assembly.evaluate import Response, evaluate_design
 from springsynth.elements import get_kind, margin_text, split_margins
-from springsynth.model.numbers import pct_text, size_text, thousands
+from springsynth.model.numbers import cycles_text, pct_text, size_text, thousands
 from springsynth.model.safety import CAUTION
 from springsynth.model.study import Study
+from springsynth.report.fatigue import FatigueView, fatigue_card, fatigue_views, plot_pareto_fatigue
 from springsynth.report.maker import MakerView, maker_section, maker_views
 
 __all__ = ["render_report", "RenderedReport", "ReportInput", "REPORT", "BASE_COLUMNS", "extra_columns"]
@@ -42,8 +43,8 @@ __all__ = ["render_report", "RenderedReport", "ReportInput", "REPORT", "BASE_COL
 REPORT = "report.html"
 #: pareto.csv columns every run has; any other column that is not an element parameter
 #: (``e<j>_...``), e.g. ``verified_error_pct`` from ``springsynth verify``, is shown as extra
-BASE_COLUMNS = ("design_id", "curve_error_pct", "stress_ratio", "size_mm3", "mass_g", "feasible", "topology",
-                "violations")
+BASE_COLUMNS = ("design_id", "curve_error_pct", "stress_ratio", "size_mm3", "fatigue_ratio", "mass_g", "feasible",
+                "topology", "violations")
 _PARAM_COLUMN = re.compile(r"^e\d+_")
 _ROLE_ORDER = ("lowest error", "knee", "smallest", "lowest stress")
 
@@ -110,6 +111,10 @@ def _figures(run: ReportInput) -> tuple[dict[str, bytes], dict[str, bytes], dict
         for role in _ROLE_ORDER:
             roles.setdefault(ids[reps[role]], []).append(role)
         figs["pareto.png"] = P.png_bytes(P.plot_pareto(ids, F, feas, stress_limit=limit))
+        if st.duty is not None and "fatigue_ratio" in run.table:
+            figs["pareto_fatigue.png"] = P.png_bytes(plot_pareto_fatigue(
+                ids, F, pd.to_numeric(run.table["fatigue_ratio"], errors="coerce").to_numpy(float), feas,
+                limit=st.limits.fatigue_ratio))
         curves, errors = {}, {}
         for name, rs in roles.items():
             label = f"{name} ({', '.join(rs)})"
@@ -275,6 +280,11 @@ def _summary(run: ReportInput) -> str:
         lims.append(f"mass ≤ {lim.max_mass_g:g} g")
     if math.isfinite(lim.max_error_pct):
         lims.append(f"curve error ≤ {lim.max_error_pct:g} %")
+    if st.duty is not None:
+        du = st.duty
+        lims.append(f"fatigue ratio ≤ {lim.fatigue_ratio:g}")
+        rows.append(("duty", f"{cycles_text(du.cycles)} cycles between strokes {du.stroke_min_mm:g} and "
+                             f"{du.stroke_max_mm:g} mm" + (", shot-peened coil springs" if du.shot_peened else "")))
     rows.append(("limits", "; ".join(lims)))
     s = st.search
     rows.append(("search space", f"kinds {_e(', '.join(k.name for k in s.kinds))}; materials "
@@ -313,8 +323,10 @@ def _pareto_table(run: ReportInput, roles: Mapping[str, list[str]]) -> str:
     feas = _feasible(tab)
     extras = extra_columns(tab)
     by_id = {d.name: d for d in run.designs}
-    head = [("id", False), ("curve error [%]", True), ("stress ratio [-]", True), ("size [mm³]", True),
-            ("mass [g]", True), ("feasible", False)]
+    fat = "fatigue_ratio" in tab
+    head = [("id", False), ("curve error [%]", True), ("stress ratio [-]", True), ("size [mm³]", True)]
+    head += [("fatigue ratio [-]", True)] if fat else []
+    head += [("mass [g]", True), ("feasible", False)]
     head += [(c, _is_numeric(tab[c])) for c in extras]
     head += [("topology", False)]
     ths = "".join(f'<th scope=col class="{"num" if num else ""}"><button type=button>{_e(h)}</button></th>'
@@ -326,8 +338,10 @@ def _pareto_table(run: ReportInput, roles: Mapping[str, list[str]]) -> str:
         cells = [f'<td class=id data-v="{_e(did)}"><a href="#card-{_e(did)}">{_e(did)}</a>{tags}</td>',
                  _cell(r.get("curve_error_pct"), numeric=True, text=_pct(r.get("curve_error_pct"))),
                  _cell(r.get("stress_ratio"), numeric=True, text=_num(r.get("stress_ratio"), ".3g")),
-                 _cell(r.get("size_mm3"), numeric=True, text=_num(r.get("size_mm3"), ".4g")),
-                 _cell(r.get("mass_g"), numeric=True, text=_num(r.get("mass_g"), ".3g")),
+                 _cell(r.get("size_mm3"), numeric=True, text=_num(r.get("size_mm3"), ".4g"))]
+        if fat:
+            cells.append(_cell(r.get("fatigue_ratio"), numeric=True, text=_num(r.get("fatigue_ratio"), ".3g")))
+        cells += [_cell(r.get("mass_g"), numeric=True, text=_num(r.get("mass_g"), ".3g")),
                  f'<td data-v="{int(feas[i])}"><span class="badge {"ok" if feas[i] else "no"}">'
                  f'{"yes" if feas[i] else "no"}</span></td>']
         for c in extras:
@@ -372,13 +386,16 @@ def _materials_table(d: Design) -> str:
     used = dict.fromkeys(e.material for e in d.elements)
     for mid in used:
         m = d.materials[mid]
-        fat = "–" if not math.isfinite(m.fatigue_MPa) else f"{m.fatigue_MPa:.4g}"
+        at = f" at {cycles_text(m.fatigue_cycles)} cycles"
+        fat = (f"{m.fatigue_MPa:.4g} MPa{at}" if math.isfinite(m.fatigue_MPa)
+               else "Zimmerli's data (coil springs)" if m.zimmerli
+               else f"strain {m.fatigue_strain:.3g}{at}" if math.isfinite(m.fatigue_strain) else "–")
         law = "" if m.law == "linear" else f" ({_e(m.law)})"
         rows.append(f"<tr><td>{_e(mid)}</td><td class=mname>{_e(m.name)}{law}</td><td class=num>{_big(m.E_MPa)}</td>"
                     f"<td class=num>{m.yield_MPa:.4g}</td><td class=num>{fat}</td>"
                     f"<td class=num>{m.density_kg_m3:.4g}</td><td>{_e(m.source)}</td></tr>")
     return ("<table><thead><tr><th>material</th><th>name</th><th class=num>E [MPa]</th>"
-            "<th class=num>yield / allowable [MPa]</th><th class=num>fatigue [MPa]</th>"
+            "<th class=num>yield / allowable [MPa]</th><th class=num>fatigue</th>"
             "<th class=num>density [kg/m³]</th><th>source</th></tr></thead><tbody>" + "".join(rows)
             + "</tbody></table>")
 
@@ -399,7 +416,7 @@ def _model_notes(d: Design) -> str:
 
 
 def _card(run: ReportInput, i: int, d: Design, r: Response, png: bytes | None, roles: Sequence[str],
-          maker: MakerView | None = None) -> str:
+          maker: MakerView | None = None, fatigue: FatigueView | None = None) -> str:
     row = run.table.iloc[i]
     feas = bool(_feasible(run.table)[i])
     tags = "".join(f'<span class="badge role">{_e(x)}</span>' for x in roles)
@@ -408,6 +425,8 @@ def _card(run: ReportInput, i: int, d: Design, r: Response, png: bytes | None, r
     facts = [f"curve error {_pct(row.get('curve_error_pct'))} %", f"stress ratio {_num(row.get('stress_ratio'), '.3g')}",
              f"size {_num(row.get('size_mm3'))} mm³ (packed box {box[0]:.3g} × {box[1]:.3g} × {box[2]:.3g} mm)",
              f"mass {_num(row.get('mass_g'), '.3g')} g"]
+    if "fatigue_ratio" in run.table:
+        facts.insert(2, f"fatigue ratio {_num(row.get('fatigue_ratio'), '.3g')}")
     parts = [f'<section class=card id="card-{_e(d.name)}"><h3>{_e(d.name)} {badge}{tags}</h3>',
              f"<p>{' · '.join(facts)}</p>", f'<p class=topo>{_e(d.topology())}</p>']
     viol = row.get("violations")
@@ -425,6 +444,8 @@ def _card(run: ReportInput, i: int, d: Design, r: Response, png: bytes | None, r
                      f"Force along the stroke with each element's share stacked (negative shares below zero), "
                      f"the target and its band; the stress ratio against its limit; a sketch of the arrangement "
                      f"(file <code>designs/{_e(d.name)}.png</code>).</figcaption></figure>")
+    if fatigue is not None:
+        parts.append(fatigue_card(fatigue.report, _img(fatigue.png, f"{d.name}: fatigue operating points")))
     if maker is not None:
         parts.append(maker_section(maker))
     parts.append(f"<details><summary>Model validity and sources</summary>{_model_notes(d)}</details>")
@@ -440,7 +461,8 @@ def _card(run: ReportInput, i: int, d: Design, r: Response, png: bytes | None, r
 
 
 def _html(run: ReportInput, figs: Mapping[str, bytes], per_design: Mapping[str, bytes], responses: Mapping[str, Response],
-          roles: Mapping[str, list[str]], makers: Mapping[str, MakerView] | None = None) -> str:
+          roles: Mapping[str, list[str]], makers: Mapping[str, MakerView] | None = None,
+          fatigue: Mapping[str, FatigueView] | None = None) -> str:
     from springsynth.model.version import __version__
 
     name = run.meta.get("study", run.study.name)
@@ -448,17 +470,20 @@ def _html(run: ReportInput, figs: Mapping[str, bytes], per_design: Mapping[str, 
     captions = {
         "pareto.png": ("Trade-offs", "Each dot is a Pareto design; the knee (best balance after scaling each "
                                      "objective to the set's range) and the extremes are ringed and labelled."),
+        "pareto_fatigue.png": ("Fatigue trade-offs", "Each Pareto design's fatigue ratio under the study's duty "
+                                                     "(1 / the Goodman factor of safety) against curve error and "
+                                                     "size; the shaded band meets limits.fatigue_ratio."),
         "curves.png": ("Representative curves", "The target and its tolerance band against the lowest-error, "
                                                 "knee, smallest and lowest-stress designs."),
         "convergence.png": ("Convergence", "Best feasible curve error, share of feasible designs and hypervolume "
                                            "(normalised) per generation."),
     }
-    width = {"curves.png": "w880", "convergence.png": "w700"}
+    width = {"curves.png": "w880", "convergence.png": "w700", "pareto_fatigue.png": "w880"}
     sections = [f'<figure class="{width.get(f, "")}">{_img(figs[f], captions[f][0])}<figcaption>{_e(captions[f][1])} '
                 f"(<code>{f}</code>)</figcaption></figure>" for f in captions if f in figs]
-    makers = makers or {}
+    makers, fatigue = makers or {}, fatigue or {}
     cards = "".join(_card(run, i, d, responses[d.name], per_design.get(d.name), roles.get(d.name, []),
-                          makers.get(d.name)) for i, d in enumerate(run.designs))
+                          makers.get(d.name), fatigue.get(d.name)) for i, d in enumerate(run.designs))
     return f"""<!DOCTYPE html>
 <html lang="en"><head><meta charset="utf-8">
 <meta name="viewport" content="width=device-width, initial-scale=1">
@@ -508,4 +533,6 @@ def render_report(run: ReportInput) -> RenderedReport:
     """
     figs, per_design, responses, roles = _figures(run)
     makers = maker_views(run.designs, run.table, run.study)
-    return RenderedReport(figs, per_design, _html(run, figs, per_design, responses, roles, makers))
+    fatigue = fatigue_views(run.designs, run.study)
+    per_design = {**per_design, **{f"{name}.fatigue": v.png for name, v in fatigue.items()}}
+    return RenderedReport(figs, per_design, _html(run, figs, per_design, responses, roles, makers, fatigue))

@@ -15,11 +15,13 @@ from rich.padding import Padding
 from rich.table import Table
 from rich.text import Text
 
+from springsynth.assembly.design import Design
+from springsynth.checks.fatigue import CRITERIA, fatigue_design
 from springsynth.elements import ElementKind
 from springsynth.model.materials import Material
-from springsynth.model.numbers import pct_text, size_text, table_number
+from springsynth.model.numbers import cycles_text, pct_text, size_text, table_number
 
-__all__ = ["kind_sections", "materials_table", "pareto_table", "verification_table", "note"]
+__all__ = ["kind_sections", "materials_table", "pareto_table", "verification_table", "note", "fatigue_renderables"]
 
 #: short names of the material forms and laws in the materials table
 FORM_CODES = {"wire": "W", "strip": "S", "bulk": "B", "elastomer": "E"}
@@ -51,7 +53,8 @@ def kind_sections(kinds: Iterable[ElementKind]) -> list:
         notes = [f"made from: {' or '.join(k.forms)} material; stroke: {k.stroke_note}", f"valid: {k.validity}"]
         if k.design_rules:
             notes.append(f"design rules (a notice when broken, the model still holds): {', '.join(sorted(k.design_rules))}")
-        notes += [f"stress: {k.stress_note}"] * bool(k.stress_note) + [f"source: {s}" for s in k.sources]
+        notes += [f"stress: {k.stress_note}"] * bool(k.stress_note) + [f"fatigue under a [duty]: {CRITERIA[k.fatigue]}"]
+        notes += [f"source: {s}" for s in k.sources]
         out += [note(n) for n in notes] + [Text("")]
     return out
 
@@ -65,12 +68,15 @@ def materials_table(materials: Iterable[Material], kinds: Iterable[ElementKind])
         t.add_column(c, justify="left" if c in ("id", "law", "forms") else "right", no_wrap=True)
     for m in materials:
         t.add_row(m.id, table_number(m.E_MPa), table_number(m.G_MPa), f"{m.nu:.3g}", table_number(m.density_kg_m3),
-                  table_number(m.yield_MPa), table_number(m.fatigue_MPa), LAW_CODES[m.law],
+                  table_number(m.yield_MPa), table_number(m.fatigue_MPa) or ("Zimmerli" if m.zimmerli else ""),
+                  LAW_CODES[m.law],
                   " ".join(FORM_CODES[f] for f in m.forms))
     kinds = list(kinds)
     legend = ["forms (the kinds made from them): " + "; ".join(
         f"{code} {form} ({', '.join(k.name for k in kinds if form in k.forms)})" for form, code in FORM_CODES.items()),
         "law (elastomers; blank: linear elastic): neo-H neo-Hookean, M-R Mooney-Rivlin, Ogden",
+        "fatigue: the material's own figure (at its fatigue_cycles); Zimmerli: a steel spring wire whose coil springs "
+        "use Zimmerli's torsional data",
         "Typical values; grade and process move them. `--format csv` gives every field and the sources."]
     return [t] + [note(n) for n in legend]
 
@@ -79,13 +85,40 @@ def pareto_table(frame, title: str, rows: int = 12) -> Table:
     """The first ``rows`` designs of a Pareto table (``Synthesis.to_frame()``): id, error, stress
     ratio, size, mass and the topology, which alone wraps."""
     t = Table(title=escape(title), title_justify="left")
-    for c, j in (("id", "left"), ("error %", "right"), ("stress ratio", "right"), ("size mm³", "right"),
-                 ("mass g", "right"), ("topology", "left")):
-        t.add_column(c, justify=j, overflow="fold", no_wrap=c != "topology")
+    fat = "fatigue_ratio" in frame        # only under a duty
+    for c in ("id", "error %", "stress ratio", "size mm³") + ("fatigue ratio",) * fat + ("mass g", "topology"):
+        t.add_column(c, justify="left" if c in ("id", "topology") else "right", overflow="fold",
+                     no_wrap=c != "topology")
     for _, r in frame.head(rows).iterrows():
         t.add_row(escape(str(r.design_id)), pct_text(r.curve_error_pct, suffix=""), f"{r.stress_ratio:.3g}",
-                  size_text(r.size_mm3), f"{r.mass_g:.3g}", escape(r.topology))
+                  size_text(r.size_mm3), *[f"{r.fatigue_ratio:.3g}"] * fat, f"{r.mass_g:.3g}", escape(r.topology))
     return t
+
+
+def fatigue_renderables(design: Design, stroke_end_mm: float, where: str) -> list:
+    """A design's fatigue under its own [duty] (``stroke_max_mm`` defaults to ``stroke_end_mm``, the end
+    of the evaluated stroke): a row per element place, then the verdict.
+
+    Raises
+    ------
+    InputError
+        When the duty reaches beyond ``stroke_end_mm`` (checked before anything is printed).
+    """
+    duty = design.duty.resolved(stroke_end_mm, where=where, end="the evaluated stroke (--to or --at)")
+    rep = fatigue_design(design, duty)
+    t = _plain_table(title=escape(f"fatigue: {cycles_text(duty.cycles)} cycles between strokes {duty.stroke_min_mm:g}"
+                                  f" and {duty.stroke_max_mm:g} mm" + (", shot-peened" * duty.shot_peened)),
+                     title_justify="left")
+    for c in ("element", "criterion", "mean", "alternating", "allowable", "ratio", "life [cycles]"):
+        t.add_column(c, justify="left" if c in ("element", "criterion") else "right", no_wrap=c != "criterion")
+    for p in rep.places:
+        f = (lambda v: f"{v:.4g} MPa") if p.unit == "MPa" else (lambda v: f"{100 * v:.3g} % strain")
+        t.add_row(f"e{p.element} {p.kind}" + (f" {p.place}" if p.place else ""), f"{p.basis} ({p.mode})",
+                  f(p.mean), f(p.alternating), f(p.allowable), f"{p.ratio:.3g}", cycles_text(p.life_cycles))
+    verdict = "survives" if rep.ratio <= 1.0 else "does NOT survive"
+    zim = any(p.basis.startswith("Zimmerli") for p in rep.places)
+    return [t, note(f"fatigue ratio {rep.ratio:.3g} (1 / the Goodman factor of safety): {verdict} the duty"
+                    + ("; life –: Zimmerli's data are for unlimited life" if zim else ""))]
 
 
 def verification_table(reports, threshold_pct: float) -> list:

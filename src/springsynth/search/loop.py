@@ -31,7 +31,7 @@ from springsynth.search.operators import (
     _TopologySurvival,
 )
 from springsynth.search.polish import polish_designs
-from springsynth.search.scoring import Scores, score
+from springsynth.search.scoring import CONSTRAINTS, Scores, score
 from springsynth.search.settings import SETTINGS
 
 __all__ = ["run_search", "SearchOutcome", "Progress", "hypervolume"]
@@ -134,11 +134,33 @@ class _State:
     @classmethod
     def resumed(cls, data: bytes) -> "_State":
         s = checkpoint.loads(data)
+        _pad_constraints(s["algo"])
         return cls(s["algo"], s["history"], s["polish_evals"], s["inject_at"], s["generations"])
 
     def dumps(self) -> bytes:
         return checkpoint.dumps({"algo": self.algo, "history": self.history, "polish_evals": self.polish_evals,
                                  "inject_at": self.inject_at, "generations": self.generations})
+
+
+def _pad_constraints(algo: NSGA2) -> None:
+    """A checkpoint written before a constraint was added: its designs satisfy the new ones (-1).
+
+    Constraints are only ever appended (``CONSTRAINTS``), and a study of that time asked for
+    none of the new ones (a study without a duty scores -1 on ``fatigue``), so padding the
+    stored values gives what evaluating them again would.
+    """
+    from pymoo.core.population import Population
+
+    k = len(CONSTRAINTS)
+    if algo.problem.n_ieq_constr == k:
+        return
+    algo.problem.n_ieq_constr = k
+    for pop in vars(algo).values():
+        if isinstance(pop, Population):
+            for ind in pop:
+                g = np.asarray(ind.G, dtype=float)
+                if g.size and g.size < k:
+                    ind.G = np.r_[g, np.full(k - g.size, -1.0)]
 
 
 def _generation(state: _State, t0: float, on_generation: Callable[[Progress], None] | None) -> None:

@@ -12,14 +12,16 @@ __all__ = ["normalised_objectives", "hypervolume"]
 
 def normalised_objectives(study: Study, F: np.ndarray) -> np.ndarray:
     """Objectives scaled by their feasible ranges for the hypervolume: error / limits.max_error_pct,
-    stress ratio / limits.stress_ratio, size / envelope volume (a feasible design lies in the unit cube)."""
+    stress ratio / limits.stress_ratio, size / envelope volume, fatigue ratio / limits.fatigue_ratio
+    (a feasible design lies in the unit cube)."""
     env = study.envelope
-    vol = env.length_mm * env.width_mm * env.height_mm
     lim = study.limits
-    return np.stack([F[:, 0] / lim.max_error_pct, F[:, 1] / lim.stress_ratio, F[:, 2] / vol], axis=1)
+    scale = {"curve_error_pct": lim.max_error_pct, "stress_ratio": lim.stress_ratio,
+             "size_mm3": env.length_mm * env.width_mm * env.height_mm, "fatigue_ratio": lim.fatigue_ratio}
+    return np.stack([F[:, j] / scale[o] for j, o in enumerate(study.search.objectives)], axis=1)
 
 
-_HV = HV(ref_point=np.ones(3))
+_HV = {3: HV(ref_point=np.ones(3))}
 
 
 def hypervolume(study: Study, F: np.ndarray, G: np.ndarray) -> float:
@@ -29,4 +31,9 @@ def hypervolume(study: Study, F: np.ndarray, G: np.ndarray) -> float:
         return 0.0
     Z = normalised_objectives(study, F[ok])
     Z = Z[np.all(Z < 1.0, axis=1)]
-    return float(_HV(Z)) if len(Z) else 0.0
+    if not len(Z):
+        return 0.0
+    k = Z.shape[1]
+    if k not in _HV:
+        _HV[k] = HV(ref_point=np.ones(k))
+    return float(_HV[k](Z))

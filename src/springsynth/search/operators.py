@@ -28,7 +28,8 @@ __all__ = ["random_genomes"]
 
 class _Problem(Problem):
     def __init__(self, study: Study, enc: Encoding):
-        super().__init__(n_var=enc.n_var, n_obj=3, n_ieq_constr=len(CONSTRAINTS), xl=enc.xl, xu=enc.xu)
+        super().__init__(n_var=enc.n_var, n_obj=len(study.search.objectives), n_ieq_constr=len(CONSTRAINTS),
+                         xl=enc.xl, xu=enc.xu)
         self.study, self.enc = study, enc
 
     def _evaluate(self, X, out, *args, **kwargs):

@@ -7,7 +7,7 @@ from scipy.optimize import least_squares
 
 from springsynth.model.study import Study
 from springsynth.search.encoding import Encoding
-from springsynth.search.scoring import Scores, score
+from springsynth.search.scoring import Scores, score, study_constraints
 from springsynth.search.settings import SETTINGS
 
 __all__ = ["polish_designs"]
@@ -26,6 +26,7 @@ def polish_designs(study: Study, enc: Encoding, X: np.ndarray, sc: Scores, *, ma
     """
     t = study.target
     w = np.sqrt(t.weight / t.weight.sum()) * 100.0 / t.scale_N
+    cols = study_constraints(study)     # the constraints that apply; the others are -1 throughout
     kept, gains, repaired = [], [], 0
     n_eval = [0]
     for i in range(len(X)):
@@ -43,7 +44,7 @@ def polish_designs(study: Study, enc: Encoding, X: np.ndarray, sc: Scores, *, ma
             n_eval[0] += Z.shape[0]
             s = score(study, enc.decode(Z))
             r = (s.response.force_N - t.force_N) * w
-            return np.hstack([r, 100.0 * np.maximum(s.G + SETTINGS.polish_margin, 0.0)])
+            return np.hstack([r, 100.0 * np.maximum(s.G[:, cols] + SETTINGS.polish_margin, 0.0)])
 
         fun = lambda z: resid_many(full(z[None, :]))[0]  # noqa: E731
 

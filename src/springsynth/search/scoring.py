@@ -1,10 +1,12 @@
 """Objectives and constraints of a population for a study (no pymoo here).
 
-Objectives (all minimised): ``curve_error_pct``, ``stress_ratio``, ``size_mm3``.
+Objectives (all minimised): ``curve_error_pct``, ``stress_ratio``, ``size_mm3``, then the
+study's optional ones in ``[search] objectives`` (``fatigue_ratio``).
 Constraints (feasible when all <= 0, each normalised demand/allowable - 1):
 ``curve_error`` (a design that misses the curve by more than ``limits.max_error_pct`` is of
 no use, however small), ``envelope_length``, ``envelope_cross``, ``stress``, ``validity``,
-``min_thickness``, ``mass``.
+``min_thickness``, ``mass``, ``fatigue`` (the fatigue ratio over ``limits.fatigue_ratio``
+under the study's duty; -1 for a study without a duty, so its results stay as they were).
 """
 
 from __future__ import annotations
@@ -16,18 +18,27 @@ import numpy as np
 
 from springsynth.assembly.evaluate import Response, envelope_margins, evaluate_population
 from springsynth.assembly.slots import Slots
+from springsynth.checks.fatigue import fatigue_population
 from springsynth.model.study import Study
 
-__all__ = ["CONSTRAINTS", "Scores", "score"]
+__all__ = ["CONSTRAINTS", "Scores", "score", "study_constraints"]
 
-CONSTRAINTS = ("curve_error", "envelope_length", "envelope_cross", "stress", "validity", "min_thickness", "mass")
+CONSTRAINTS = ("curve_error", "envelope_length", "envelope_cross", "stress", "validity", "min_thickness", "mass",
+               "fatigue")
+
+
+def study_constraints(study: Study) -> np.ndarray:
+    """Columns of ``CONSTRAINTS`` the study asks for (``fatigue`` only under a duty), indices."""
+    return np.array([j for j, c in enumerate(CONSTRAINTS) if c != "fatigue" or study.duty is not None], dtype=np.intp)
+
+
 #: stand-in for a non-finite objective or constraint value
 BIG = 1e6
 
 
 @dataclass(frozen=True)
 class Scores:
-    """Objectives (n, 3), constraints (n, len(CONSTRAINTS)) and the response behind them."""
+    """Objectives (n, len(objectives)), constraints (n, len(CONSTRAINTS)) and the response behind them."""
 
     F: np.ndarray
     G: np.ndarray
@@ -56,13 +67,16 @@ def score(study: Study, slots: Slots) -> Scores:
             else np.full(slots.n, -1.0)
         g_mass = r.mass_g / lim.max_mass_g - 1.0 if math.isfinite(lim.max_mass_g) else np.full(slots.n, -1.0)
         g_err = err / lim.max_error_pct - 1.0
+        fatigue = fatigue_population(slots, study.duty) if study.duty is not None else None
+        g_fat = fatigue / lim.fatigue_ratio - 1.0 if fatigue is not None else np.full(slots.n, -1.0)
     obj_err = err
     if study.search.robust:  # [search] robust = true: 90th-percentile error over fixed tolerance samples
         from springsynth.checks.tolerance import robust_error
 
         obj_err = robust_error(study, slots)
-    F = np.stack([obj_err, r.stress_ratio, r.size_mm3], axis=1)
-    G = np.stack([g_err, g_len, g_cross, g_stress, g_valid, g_thick, g_mass], axis=1)
+    extra = {"fatigue_ratio": fatigue}
+    F = np.stack([obj_err, r.stress_ratio, r.size_mm3] + [extra[o] for o in study.search.objectives[3:]], axis=1)
+    G = np.stack([g_err, g_len, g_cross, g_stress, g_valid, g_thick, g_mass, g_fat], axis=1)
     G = np.maximum(G, -1.0)  # only the sign matters below zero; keeps -inf out of pymoo
     bad = ~r.finite[:, None] | ~np.isfinite(G)
     G = np.where(bad, BIG, np.minimum(G, BIG))

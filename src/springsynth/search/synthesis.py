@@ -4,13 +4,14 @@ from __future__ import annotations
 
 import math
 import time
-from dataclasses import dataclass, field
+from dataclasses import dataclass, field, replace
 from typing import Callable, Sequence
 
 import numpy as np
 import pandas as pd
 
 from springsynth.assembly.design import Design
+from springsynth.checks.fatigue import fatigue_population
 from springsynth.elements import get_kind, margin_text, split_margins
 from springsynth.model.errors import InputError
 from springsynth.model.numbers import pct_text
@@ -30,6 +31,7 @@ _CONSTRAINT_WORDS = {
     "design_rule": "an element breaks a design rule (harder to make)",
     "min_thickness": "a thickness is below limits.min_thickness_mm",
     "mass": "mass exceeds limits.max_mass_g",
+    "fatigue": "fatigue ratio exceeds limits.fatigue_ratio",
 }
 
 
@@ -43,9 +45,9 @@ class Synthesis:
     designs : tuple of Design
         The Pareto designs (or, when nothing is feasible, the closest designs), in
         table order; ``designs[i].name`` is the design id.
-    objectives : ndarray, shape (n, 3)
-        curve_error_pct, stress_ratio, size_mm3.
-    constraints : ndarray, shape (n, 7)
+    objectives : ndarray, shape (n, k)
+        curve_error_pct, stress_ratio, size_mm3, then the study's optional objectives.
+    constraints : ndarray, shape (n, len(CONSTRAINTS))
         Normalised constraint values (<= 0 satisfied), columns ``CONSTRAINTS``.
     mass_g : ndarray, shape (n,)
     feasible : bool
@@ -76,6 +78,8 @@ class Synthesis:
     in_spec: dict = field(default_factory=dict)
     #: what the caller should know (e.g. warm-start designs left out because they no longer fit)
     notices: tuple[str, ...] = ()
+    #: worst fatigue ratio of each design under the study's duty, shape (n,); None without a duty
+    fatigue_ratio: np.ndarray | None = None
 
     def to_frame(self) -> pd.DataFrame:
         return design_table(self)
@@ -122,6 +126,7 @@ def design_table(res: Synthesis) -> pd.DataFrame:
             "curve_error_pct": res.objectives[i, 0],
             "stress_ratio": res.objectives[i, 1],
             "size_mm3": res.objectives[i, 2],
+            **({"fatigue_ratio": res.fatigue_ratio[i]} if res.fatigue_ratio is not None else {}),
             "mass_g": res.mass_g[i],
             "feasible": bool(np.all(res.constraints[i] <= 0)),
             "topology": d.topology(),
@@ -189,7 +194,8 @@ def synthesize(study: Study, *, seed: int | None = None, population: int | None 
         study, s = out.study, out.study.search
         enc = Encoding(study)
     slots = enc.decode(out.X)
-    designs = tuple(slots.design(i, name=f"D{i + 1:02d}") for i in range(slots.n))
+    designs = tuple(replace(slots.design(i, name=f"D{i + 1:02d}"), duty=study.duty) for i in range(slots.n))
+    fatigue = fatigue_population(slots, study.duty) if study.duty is not None else None
     sc = out.scores
     verified, in_spec, t_verify = {}, {}, 0.0
     if not out.partial and s.verify_top > 0:
@@ -203,7 +209,7 @@ def synthesize(study: Study, *, seed: int | None = None, population: int | None 
         feasible=out.feasible_found, seed=seed, population=population, generations=generations,
         evaluations=out.evaluations, history=out.history, polish=out.polish,
         validity={k: np.asarray(v) for k, v in sc.response.validity.items()},
-        partial=out.partial, checkpoint=out.checkpoint, verified=verified, in_spec=in_spec,
+        partial=out.partial, checkpoint=out.checkpoint, verified=verified, in_spec=in_spec, fatigue_ratio=fatigue,
         timings={**out.timings, **({"verification_s": t_verify} if verified else {})}, notices=notices,
     )
 
