@@ -17,6 +17,7 @@ from springsynth.elements import design_rule_names, get_kind, registry, split_ma
 from springsynth.io.design_toml import design_to_toml
 from springsynth.io.study_toml import load_study
 from springsynth.model.materials import MaterialArrays, catalogue
+from springsynth.search.scoring import CONSTRAINTS
 from springsynth.search.synthesis import Synthesis
 from tests.conftest import blade, design, write_study, write_target
 
@@ -165,8 +166,8 @@ def test_a_broken_design_rule_is_a_notice_not_a_model_warning(tmp_path):
 def test_infeasible_designs_name_rules_and_model_limits_apart(linear_study):
     res = _synthesis(linear_study, (1.0, 2.0))
     validity = {"spring_index": np.array([0.04, -1.0]), "buckling": np.array([-1.0, 0.25])}
-    G = np.zeros((2, 7))
-    G[:, 4] = [0.04, 0.25]
+    G = np.zeros((2, len(CONSTRAINTS)))
+    G[:, CONSTRAINTS.index("validity")] = [0.04, 0.25]
     res = Synthesis(**{**res.__dict__, "constraints": G, "validity": validity})
     assert "breaks a design rule" in res.binding(0) and "spring_index +4.0 %" in res.binding(0)
     assert "valid range" not in res.binding(0)

@@ -91,7 +91,7 @@ def pareto_table(frame, title: str, rows: int = 12) -> Table:
                      no_wrap=c != "topology")
     for _, r in frame.head(rows).iterrows():
         t.add_row(escape(str(r.design_id)), pct_text(r.curve_error_pct, suffix=""), f"{r.stress_ratio:.3g}",
-                  size_text(r.size_mm3), *[f"{r.fatigue_ratio:.3g}"] * fat, f"{r.mass_g:.3g}", escape(r.topology))
+                  size_text(r.size_mm3), *([f"{r.fatigue_ratio:.3g}"] if fat else []), f"{r.mass_g:.3g}", escape(r.topology))
     return t
 
 
