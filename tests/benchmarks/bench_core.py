@@ -10,7 +10,13 @@ Each figure is measured twice in the same process: first with the C library's de
 allocator settings, then after ``keep_temporaries_on_heap()``, which the command line
 applies at start (see ``springsynth/_allocator.py``).
 
-Run:  python tests/benchmarks/bench_core.py [--n 20000] [--repeats 7]
+With ``--chains`` it measures chains instead: a population of two-link designs evaluated
+with the two slots in parallel, then the same population with the two slots as one chain
+in series (the loading path composed from both links' curves, snaps included), for a
+coil spring with a column, a coil spring with an arch (a falling link: the path folds),
+and random pairs of every kind. Prints designs/s for both and the ratio of times.
+
+Run:  python tests/benchmarks/bench_core.py [--n 20000] [--repeats 7] [--chains]
 """
 
 from __future__ import annotations
@@ -18,6 +24,8 @@ from __future__ import annotations
 import argparse
 import statistics
 import time
+
+import dataclasses
 
 import numpy as np
 
@@ -54,12 +62,60 @@ def random_population(n: int, slots: int = 3, seed: int = 0, kinds=None) -> Slot
     return Slots(kind, mat, count, offset, params, kinds, mats)
 
 
+def pair_population(n: int, first, second, seed: int = 0) -> Slots:
+    """n two-slot designs: slot 1 of a kind in ``first``, slot 2 of a kind in ``second`` (names)."""
+    a = random_population(n, slots=1, seed=seed, kinds=first)
+    b = random_population(n, slots=1, seed=seed + 1, kinds=second)
+    kinds = tuple(dict.fromkeys(a.kinds + b.kinds))
+    ka = np.array([kinds.index(k) for k in a.kinds])[a.kind]
+    kb = np.array([kinds.index(k) for k in b.kinds])[b.kind]
+    P = max(len(k.params) for k in kinds)
+    params = np.zeros((n, 2, P))
+    params[:, :1, :a.params.shape[2]] = a.params
+    params[:, 1:, :b.params.shape[2]] = b.params
+    return Slots(np.hstack([ka, kb]), np.hstack([a.material, b.material]), np.hstack([a.count, b.count]),
+                 np.hstack([a.offset_mm, b.offset_mm]), params, kinds, a.materials)
+
+
+def _median_time(pop: Slots, x: np.ndarray, repeats: int) -> float:
+    evaluate_population(pop, x)     # warm-up
+    times = []
+    for _ in range(repeats):
+        t0 = time.perf_counter()
+        evaluate_population(pop, x)
+        times.append(time.perf_counter() - t0)
+    return statistics.median(times)
+
+
+def chains(n: int, repeats: int) -> None:
+    """Two-link designs: the same population in parallel and as chains."""
+    x = np.linspace(0.0, 5.0, 64)
+    every = list(registry())
+    cases = (("coil spring + column", ["helical_compression"], ["column"]),
+             ("coil spring + arch (snaps)", ["helical_compression"], ["arch"]),
+             ("random pairs of every kind", every, [k for k in every if k != "arch"]))
+    print(f"population {n} x 2 elements x 64 points, {repeats} repeats (median)")
+    for label, first, second in cases:
+        par = pair_population(n, first, second)
+        link = np.zeros(par.kind.shape, dtype=bool)
+        link[:, 1] = True
+        ch = dataclasses.replace(par, link=link)
+        tp, tc = _median_time(par, x, repeats), _median_time(ch, x, repeats)
+        print(f"{label}: in parallel {n / tp:,.0f} designs/s, as chains {n / tc:,.0f} designs/s; "
+              f"ratio of times {tc / tp:.1f}")
+
+
 def main() -> None:
     ap = argparse.ArgumentParser()
     ap.add_argument("--n", type=int, default=20000)
     ap.add_argument("--repeats", type=int, default=7)
     ap.add_argument("--kinds", nargs="*", help="restrict to these kinds (default: all registered)")
+    ap.add_argument("--chains", action="store_true", help="measure chains against the same kinds in parallel")
     a = ap.parse_args()
+    if a.chains:
+        keep_temporaries_on_heap()
+        chains(a.n, a.repeats)
+        return
     pop = random_population(a.n, kinds=a.kinds)
     x = np.linspace(0.0, 5.0, 64)
     evaluate_population(pop, x)  # warm-up: builds cached tables

@@ -142,6 +142,9 @@ class ElementKind:
     stroke_note : str       what the stroke ``u`` is for this kind
     monotonic_stress : bool governing stress rises monotonically with u, so its peak over
                             a stroke is reached at ``u_max`` (lets the search evaluate it once)
+    monotonic_force : bool  force never falls as u grows (False for a snap-through kind with a
+                            falling branch); a chain of links in series holds at most one link
+                            whose force falls, and follows its loading path through it
     glyph : str             its symbol in the schematics, a name the report draws (``GLYPHS`` in
                             :mod:`springsynth.report.schematic`)
     verification : str      its independent solver for ``springsynth verify``, a name of
@@ -166,6 +169,7 @@ class ElementKind:
     sources: tuple[str, ...] = ()
     stroke_note: str = ""
     monotonic_stress: bool = True
+    monotonic_force: bool = True
     stress_note: str = ""
     glyph: str = ""
     verification: str = ""
@@ -219,6 +223,21 @@ class ElementKind:
         every one a kind returns. Values are per copy, on the element's own stroke ``u``.
         """
         return {}
+
+    def stroke_reach(self, p: Params) -> np.ndarray:
+        """Largest own stroke of the declared valid range, mm, shape (n,) (inf: no bound on the stroke).
+
+        A chain tabulates each link's curve up to this stroke (or the chain's stroke, if
+        smaller), so that a link whose valid range is short against the chain's stroke is
+        still finely resolved; beyond it the link's curve is continued at its last slope and
+        the link's validity margins flag the design.
+        """
+        return np.full(np.shape(next(iter(p.values())))[0], np.inf)
+
+    def stroke_kinks(self, p: Params) -> np.ndarray:
+        """Own strokes where the force curve turns a corner (a bifurcation, the end of a ramp), mm,
+        shape (n, k); NaN where a design has none. A chain's table of the link puts points there."""
+        return np.empty((np.shape(next(iter(p.values())))[0], 0))
 
     # ---- fatigue (optional override) ------------------------------------------------
     def fatigue_ultimate(self, p: Params, mat: MaterialArrays) -> np.ndarray:

@@ -393,6 +393,16 @@ class Arch(ElementKind):
         peak = (mat.E * t * h / l**2) * self._lookup_snap(p, umax, "sigma_peak")[:, 0]
         return peak / self.allowable(p, mat)
 
+    def stroke_reach(self, p):
+        return DELTA_MAX * p["rise_mm"]
+
+    def stroke_kinks(self, p):
+        """The ends of the snap path, ``Delta_b1 h`` and ``Delta_b2 h`` (NaN below the threshold Q)."""
+        h = p["rise_mm"]
+        d1, d2 = snap_strokes(h / p["thickness_mm"], table()["snap_quadratic"])
+        ok = d2 > d1
+        return np.stack([np.where(ok, d1 * h, np.nan), np.where(ok, d2 * h, np.nan)], axis=1)
+
     def validity_margins(self, p, mat, u_max):
         l, t, h = p["length_mm"], p["thickness_mm"], p["rise_mm"]
         q_hi = float(table()["Q"][-1])
@@ -441,6 +451,7 @@ KIND = Arch(
     ),
     stroke_note="u = travel of the centre shuttle from the as-made position towards and through the clamp line",
     monotonic_stress=False,
+    monotonic_force=False,
     stress_note="bending stress from the curvature change (worst point of the span) plus the axial stress N/A",
 )
 

@@ -92,6 +92,14 @@ class Column(ElementKind):
             "elastic_buckling": (mat.E * eps) / mat.yield_ - 1.0,
         }
 
+    def stroke_reach(self, p):
+        return SHORTENING_MAX * p["length_mm"]
+
+    def stroke_kinks(self, p):
+        """A straight column's shortening at its Euler load, ``P_cr L / (E A)`` (NaN when curved)."""
+        K, alpha, eps = self._geometry(p)
+        return np.where(alpha > 0.0, np.nan, eps * p["length_mm"])[:, None]
+
     def box(self, p, u_max):
         K, alpha, eps = self._geometry(p)
         L = p["length_mm"]
