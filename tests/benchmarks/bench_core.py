@@ -22,10 +22,9 @@ Run:  python tests/benchmarks/bench_core.py [--n 20000] [--repeats 7] [--chains]
 from __future__ import annotations
 
 import argparse
+import dataclasses
 import statistics
 import time
-
-import dataclasses
 
 import numpy as np
 
