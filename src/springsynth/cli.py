@@ -152,6 +152,9 @@ def evaluate(
               f"({r.box_mm[0, 0]:.3g} x {r.box_mm[0, 1]:.3g} x {r.box_mm[0, 2]:.3g} mm); mass {r.mass_g[0]:.3g} g")
     if target is not None:
         out.print(escape(f"curve error against {target_name}: {pct_text(target.curve_error_pct(r.force_N)[0], decimals=3)}"))
+    if r.snap_mm is not None and math.isfinite(r.snap_mm[0]):
+        out.print(f"a chain snaps at x = {r.snap_mm[0]:.4g} mm: its loading path folds back there and the force "
+                  "jumps (see the plot)")
     outside = {k: float(v[0]) for k, v in r.validity.items() if v[0] > 0}
     if not r.finite[0]:
         outside["numerical"] = math.inf
@@ -164,21 +167,41 @@ def evaluate(
         from springsynth.io.files import save_figure
         from springsynth.report.plots import plot_design
 
-        save_figure(plot_design(d, r, target=target, title=f"{d.name}: {len(d.elements)} element(s) in parallel"), plot)
+        save_figure(plot_design(d, r, target=target, title=f"{d.name}: {_arrangement_words(d)}"), plot)
         out.print(f"wrote {plot}")
     out.print(*fatigue, end="\n" if fatigue else "")
     _caution()
     _validity_messages(outside)
 
 
+def _arrangement_words(d) -> str:
+    chains = sum(1 for b in d.branches if hasattr(b, "links"))
+    n = len(d.parts)
+    if not chains:
+        return f"{n} element(s) in parallel"
+    return f"{n} element(s) in {len(d.branches)} parallel branch(es), {chains} of them chain(s) in series"
+
+
 def _evaluation_frame(d, r):
+    """Columns: stroke, force, stress ratio; each single element's force (``e<j>_<kind>_N``); each
+    chain's force (``chain<c>_N``) and its links' own strokes (``e<j>_<kind>_stroke_mm``)."""
     import pandas as pd
 
     from springsynth.assembly.evaluate import element_extra_outputs
 
     cols = {"displacement_mm": r.x_mm, "force_N": r.force_N[0], "stress_ratio": r.stress_ratio_curve[0]}
-    for j, e in enumerate(d.elements):
-        cols[f"e{j + 1}_{e.kind}_N"] = r.element_force_N[0, j]
+    j = chain_no = 0
+    for b in d.branches:
+        links = getattr(b, "links", None)
+        if links is None:
+            cols[f"e{j + 1}_{b.kind}_N"] = r.element_force_N[0, j]
+            j += 1
+            continue
+        chain_no += 1
+        cols[f"chain{chain_no}_N"] = r.element_force_N[0, j]
+        for e in links:
+            cols[f"e{j + 1}_{e.kind}_stroke_mm"] = r.element_stroke_mm[0, j]
+            j += 1
     cols.update(element_extra_outputs(d, r.x_mm))     # e.g. a stage's parasitic travel
     return pd.DataFrame(cols)
 
@@ -254,9 +277,10 @@ def check(file: Path = typer.Argument(..., metavar="FILE", help="a target CSV, a
             out.print(f"notice: {n}")
         return
     doc = read_toml(file)
-    if "element" in doc:
+    if "element" in doc or "chain" in doc:
         d = load_design(file)
-        out.print(escape(f"{file}: design with {len(d.elements)} element(s): {d.topology()}"))
+        out.print(escape(f"{file}: design with {len(d.parts)} element(s) in {len(d.branches)} branch(es): "
+                         f"{d.topology()}"))
         _material_notices(d.materials.values())
         return
     st = load_study(file)

@@ -4,7 +4,9 @@
 ``pareto.csv`` of a seeded run of ``studies/latch-preload.toml`` (population 24,
 12 generations, seed 3, no verification), and ``checkpoint.pkl``, the same run stopped
 after its fifth generation. The same seed must still give a byte-identical
-``pareto.csv``, and the old checkpoint must still resume to it.
+``pareto.csv``, and the old checkpoint must still resume to it. Chains came later: the run
+sets ``search.max_chain=1`` (elements in parallel only, the genome of that time), and the
+old checkpoint, which has no such option, reads as parallel only by itself.
 """
 
 from __future__ import annotations
@@ -18,7 +20,8 @@ from springsynth.io.runfolder import write_run
 
 ROOT = Path(__file__).resolve().parents[2]
 DATA = ROOT / "tests" / "data" / "pre_layers"
-OVERRIDES = ["search.population=24", "search.generations=12", "search.verify_top=0", 'search.stock="continuous"']
+OVERRIDES = ["search.population=24", "search.generations=12", "search.verify_top=0", "search.max_chain=1",
+             'search.stock="continuous"']
 
 pytestmark = pytest.mark.slow
 

@@ -115,6 +115,10 @@ Branch = Union[Element, Chain]
 class Design:
     """A mechanism: branches in parallel (elements or chains), with the materials they name resolved.
 
+    The branches are kept in the order a design file lists them: the single elements
+    first, then the chains (each group in the order given), so that a design, its file
+    and its slots always number their parts alike.
+
     Attributes
     ----------
     branches : tuple of Element or Chain
@@ -131,7 +135,9 @@ class Design:
     duty: Duty | None = None
 
     def __post_init__(self):
-        object.__setattr__(self, "branches", tuple(self.branches))
+        br = tuple(self.branches)
+        object.__setattr__(self, "branches", tuple(b for b in br if not isinstance(b, Chain))
+                           + tuple(b for b in br if isinstance(b, Chain)))
         if not self.branches:
             raise InputError("a design needs at least one [[element]] or [[chain]]", where=self.name)
         for i, (_, e) in enumerate(iter_elements(self)):

@@ -9,7 +9,7 @@ import tomllib
 from pathlib import Path
 from typing import Any, Mapping
 
-from springsynth.assembly.design import MAX_COUNT, Design, Element
+from springsynth.assembly.design import MAX_COUNT, Chain, Design, Element
 from springsynth.checks.fatigue import check_fatigue_data
 from springsynth.elements import get_kind, registry
 from springsynth.model.errors import InputError
@@ -19,13 +19,13 @@ from springsynth.model.study import DEFAULTS, MAX_CYCLES, Duty
 from springsynth.model.suggest import unknown_key_message
 
 __all__ = ["load_design", "design_from_mapping", "design_to_toml", "resolve_materials", "read_toml", "duty_from_mapping",
-           "DUTY_KEYS"]
+           "DUTY_KEYS", "element_from_mapping", "chain_from_mapping"]
 
-_TOP_KEYS = {"name", "note", "element", "materials", "duty"}
+_TOP_KEYS = {"name", "note", "element", "chain", "materials", "duty"}
 #: keys of a [duty] table (defaults in ``springsynth.model.study.DEFAULTS["duty"]``)
 DUTY_KEYS = {"cycles", "stroke_min_mm", "stroke_max_mm", "shot_peened"}
-#: most identical copies of one element in parallel (designs and studies)
 _ELEMENT_KEYS = {"kind", "material", "count", "offset_mm"}
+_CHAIN_KEYS = {"count", "offset_mm", "element"}
 
 
 def read_toml(path: str | Path) -> dict[str, Any]:
@@ -118,12 +118,7 @@ def element_from_mapping(d: Any, mats: Mapping[str, Material], where: str) -> El
         raise InputError(
             f"material {mid!r} ({' '.join(mat.forms)}) does not suit {kname}, which is made from "
             f"{' or '.join(kind.forms)} material", where=f"{where}.material")
-    count = d.get("count", 1)
-    if isinstance(count, bool) or not isinstance(count, int) or not 1 <= count <= MAX_COUNT:
-        raise InputError(f"count must be a whole number >= 1 (at most {MAX_COUNT}), got {count!r}", where=f"{where}.count")
-    offset = d.get("offset_mm", 0.0)
-    if isinstance(offset, bool) or not isinstance(offset, (int, float)) or not is_finite_number(offset):
-        raise InputError(f"offset_mm must be a finite number of mm, got {offset!r}", where=f"{where}.offset_mm")
+    count, offset = _count_offset(d, where)
     params: dict[str, float | str] = {}
     for q in kind.params:
         w = f"{where}.{q.name}"
@@ -148,24 +143,71 @@ def element_from_mapping(d: Any, mats: Mapping[str, Material], where: str) -> El
 
 
 
+def _count_offset(d: Mapping[str, Any], where: str) -> tuple[int, float]:
+    """The ``count`` (copies in parallel) and ``offset_mm`` (gap > 0, preload < 0) of an element or chain."""
+    count = d.get("count", 1)
+    if isinstance(count, bool) or not isinstance(count, int) or not 1 <= count <= MAX_COUNT:
+        raise InputError(f"count must be a whole number >= 1 (at most {MAX_COUNT}), got {count!r}", where=f"{where}.count")
+    offset = d.get("offset_mm", 0.0)
+    if isinstance(offset, bool) or not isinstance(offset, (int, float)) or not is_finite_number(offset):
+        raise InputError(f"offset_mm must be a finite number of mm, got {offset!r}", where=f"{where}.offset_mm")
+    return count, offset
+
+
+def chain_from_mapping(d: Any, mats: Mapping[str, Material], where: str) -> Chain:
+    """Validate one ``[[chain]]`` table and its ``[[chain.element]]`` links; ``where`` names file and chain."""
+    if not isinstance(d, Mapping):
+        raise InputError("must be a table, written [[chain]] with [[chain.element]] links", where=where)
+    for k in d:
+        if k not in _CHAIN_KEYS:
+            raise InputError(unknown_key_message(k, _CHAIN_KEYS, what="field of a chain"), where=where)
+    count, offset = _count_offset(d, where)
+    links = d.get("element")
+    if not links:
+        raise InputError("has no [[chain.element]] links; a chain needs at least 2, each under [[chain.element]]",
+                         where=where)
+    if not isinstance(links, list):
+        raise InputError("'element' must be an array of tables, written [[chain.element]]", where=where)
+    if len(links) < 2:
+        raise InputError("has 1 link; a chain needs at least 2 (write a single element as [[element]])", where=where)
+    out = []
+    for k, e in enumerate(links, start=1):
+        w = f"{where} link {k}"
+        if isinstance(e, Mapping) and "offset_mm" in e:
+            raise InputError(f"chain links have no offset of their own, got {e['offset_mm']!r}; give the gap or "
+                             "preload as the chain's offset_mm", where=f"{w}.offset_mm")
+        out.append(element_from_mapping(e, mats, w))
+    falling = [k for k, e in enumerate(out, start=1) if not get_kind(e.kind).monotonic_force]
+    if len(falling) > 1:
+        raise InputError(f"links {' and '.join(map(str, falling))} ({', '.join(out[k - 1].kind for k in falling)}) "
+                         "both fall with stroke; a chain holds at most one such link, put the others in "
+                         "branches of their own", where=where)
+    return Chain(tuple(out), int(count), float(offset))
+
+
 def design_from_mapping(doc: Mapping[str, Any], *, where: str, name: str | None = None) -> Design:
     """Build a validated :class:`Design` from a parsed design table."""
     for k in doc:
         if k not in _TOP_KEYS:
             raise InputError(unknown_key_message(k, _TOP_KEYS), where=where)
     mats = resolve_materials(doc.get("materials"), where)
-    elements = doc.get("element")
-    if not elements:
-        raise InputError("no [[element]] tables; a design needs at least one", where=where)
+    elements, chains = doc.get("element", []), doc.get("chain", [])
+    if not elements and not chains:
+        raise InputError("no [[element]] or [[chain]] tables; a design needs at least one", where=where)
     if not isinstance(elements, list):
         raise InputError("'element' must be an array of tables, written [[element]]", where=where)
-    elems = tuple(element_from_mapping(e, mats, f"{where} element {i + 1}") for i, e in enumerate(elements))
-    used = {e.material: mats[e.material] for e in elems}
+    if not isinstance(chains, list):
+        raise InputError("'chain' must be an array of tables, written [[chain]] with [[chain.element]] links",
+                         where=where)
+    branches = [element_from_mapping(e, mats, f"{where} element {i + 1}") for i, e in enumerate(elements)]
+    branches += [chain_from_mapping(c, mats, f"{where} chain {i + 1}") for i, c in enumerate(chains)]
+    parts = [e for b in branches for e in (b.links if isinstance(b, Chain) else (b,))]
+    used = {e.material: mats[e.material] for e in parts}
     duty = duty_from_mapping(doc["duty"], where) if "duty" in doc else None
     if duty is not None:
-        for i, e in enumerate(elems):
+        for i, e in enumerate(parts):
             check_fatigue_data(get_kind(e.kind), used[e.material], where=f"{where} element {i + 1}")
-    return Design(elems, used, name=str(doc.get("name", name or Path(where).stem)), duty=duty)
+    return Design(tuple(branches), used, name=str(doc.get("name", name or Path(where).stem)), duty=duty)
 
 
 def load_design(path: str | Path) -> Design:
@@ -227,8 +269,15 @@ def design_to_toml(design: Design, *, header: str = "") -> str:
         if du.stroke_max_mm is not None:
             lines.append(f"stroke_max_mm = {toml_value(float(du.stroke_max_mm))}")
         lines.append(f"shot_peened = {toml_value(du.shot_peened)}")
-    for e in design.elements:
-        lines += ["", "[[element]]", f"kind = {toml_value(e.kind)}", f"material = {toml_value(e.material)}",
-                  f"count = {e.count}", f"offset_mm = {toml_value(float(e.offset_mm))}"]
-        lines += [f"{k} = {toml_value(v)}" for k, v in e.params.items()]
+    for b in design.branches:
+        if isinstance(b, Chain):
+            lines += ["", "[[chain]]", f"count = {b.count}", f"offset_mm = {toml_value(float(b.offset_mm))}"]
+            for e in b.links:
+                lines += ["", "[[chain.element]]", f"kind = {toml_value(e.kind)}",
+                          f"material = {toml_value(e.material)}", f"count = {e.count}"]
+                lines += [f"{k} = {toml_value(v)}" for k, v in e.params.items()]
+            continue
+        lines += ["", "[[element]]", f"kind = {toml_value(b.kind)}", f"material = {toml_value(b.material)}",
+                  f"count = {b.count}", f"offset_mm = {toml_value(float(b.offset_mm))}"]
+        lines += [f"{k} = {toml_value(v)}" for k, v in b.params.items()]
     return "\n".join(lines) + "\n"

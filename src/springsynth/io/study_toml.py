@@ -36,10 +36,14 @@ _SCHEMA: dict[str, set[str] | None] = {
     "name": None, "description": None, "target": {"file", "scale_force", "scale_stroke"},
     "envelope": {"length_mm", "width_mm", "height_mm"},
     "limits": {"stress_ratio", "min_thickness_mm", "max_mass_g", "max_error_pct", "fatigue_ratio"},
-    "search": {"elements", "materials", "max_elements", "max_count", "population", "generations", "seed",
+    "search": {"elements", "materials", "max_elements", "max_chain", "max_count", "population", "generations", "seed",
                "polish", "verify_top", "robust", "objectives"},
     "materials": None, "duty": DUTY_KEYS,
 }
+
+
+#: most elements (chain links included) a searched design may have
+_MAX_SLOTS = 6
 
 
 def _num(v: Any, where: str, *, lo: float | None = None, integer: bool = False, strict: bool = True,
@@ -190,14 +194,18 @@ def _search(given: Mapping[str, Any], mats: Mapping[str, Material], where: str) 
 
     opts = SearchOptions(
         kinds=kinds, materials=_materials(s, mats, kinds, where),
-        max_elements=whole("max_elements", 1, math.inf), max_count=whole("max_count", 1, MAX_COUNT),
+        max_elements=whole("max_elements", 1, math.inf), max_chain=whole("max_chain", 1, _MAX_SLOTS),
+        max_count=whole("max_count", 1, MAX_COUNT),
         population=whole("population", 4, 100_000), generations=whole("generations", 1, 100_000),
         seed=whole("seed", 0, 2**32 - 1), polish=_bool(s["polish"], at + "polish"),
         verify_top=whole("verify_top", 0, 100_000), robust=_bool(s["robust"], at + "robust"),
         objectives=_objectives(s["objectives"], at + "objectives"),
     )
-    if opts.max_elements > 6:
-        raise InputError(f"max_elements must be at most 6, got {opts.max_elements}", where=f"{where} [search]")
+    if opts.max_elements > _MAX_SLOTS:
+        raise InputError(f"max_elements must be at most {_MAX_SLOTS}, got {opts.max_elements}", where=f"{where} [search]")
+    if "max_chain" in given and opts.max_chain > opts.max_elements:
+        raise InputError(f"max_chain ({opts.max_chain}) exceeds max_elements ({opts.max_elements}): every link counts "
+                         f"as an element; raise max_elements or lower max_chain", where=f"{where} [search]")
     return opts
 
 

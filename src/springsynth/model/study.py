@@ -61,9 +61,13 @@ class Limits:
 
 @dataclass(frozen=True)
 class SearchOptions:
+    """The ``[search]`` table. ``max_elements`` counts every element, chain links included;
+    ``max_chain`` is the most links in one chain (1: elements in parallel only)."""
+
     kinds: tuple[ElementKind, ...]
     materials: tuple[Material, ...]
     max_elements: int = 3
+    max_chain: int = 2
     max_count: int = 4
     population: int = 120
     generations: int = 80
@@ -130,6 +134,21 @@ class Duty:
             raise InputError(f"stroke_min_mm = {self.stroke_min_mm:g} must lie below stroke_max_mm = {hi:g}",
                              where=where)
         return replace(self, stroke_max_mm=float(hi))
+
+    def __setstate__(self, state: dict) -> None:
+        """Unpickle (a checkpoint), filling options added since it was written: a search from before
+        chains existed searched elements in parallel only (``max_chain = 1``)."""
+        state = dict(state)
+        state.setdefault("max_chain", 1)
+        for f in fields(self):
+            if f.name not in state and f.default is not MISSING:
+                state[f.name] = f.default
+        self.__dict__.update(state)
+
+    @property
+    def links_per_chain(self) -> int:
+        """Links a chain may have in this search: ``max_chain``, at most ``max_elements``."""
+        return max(1, min(self.max_chain, self.max_elements))
 
 
 @dataclass(frozen=True)

@@ -13,9 +13,20 @@ __all__ = ["topology_keys", "pareto_front", "best_per_topology", "rows_of", "tak
 
 
 def topology_keys(enc: Encoding, X: np.ndarray) -> list[bytes]:
-    """One key per genome: its sorted kind genes (the multiset of kinds, slots in any order)."""
-    K = np.sort(np.round(X[:, ::enc.genes_per_slot]).astype(np.int16), axis=1)
-    return [r.tobytes() for r in K]
+    """One key per genome: the multiset of its branches, each a kind or the ordered kinds of a chain.
+
+    Without chains: its sorted kind genes (the multiset of kinds, slots in any order).
+    """
+    K = np.round(X[:, ::enc.genes_per_slot]).astype(np.int64)
+    if not getattr(enc, "link_gene", False):
+        return [r.tobytes() for r in np.sort(K.astype(np.int16), axis=1)]
+    link = enc.links(X)
+    base = len(enc.kinds) + 1
+    code = K.copy()                     # a branch's code: its kinds in base (K + 1), head first
+    for j in range(1, K.shape[1]):
+        code[:, j] = np.where(link[:, j], code[:, j - 1] * base + K[:, j], K[:, j])
+        code[:, j - 1] = np.where(link[:, j], 0, code[:, j - 1])     # only a branch's last slot keeps it
+    return [r.tobytes() for r in np.sort(code, axis=1)]
 
 
 def rows_of(X_front, Xpop):

@@ -124,7 +124,7 @@ class _State:
               warm_start: np.ndarray | None, polish: bool) -> "_State":
         enc = Encoding(study)
         algo = NSGA2(pop_size=population, sampling=_Sampling(enc, warm_start), crossover=_Crossover(enc),
-                     mutation=_Mutation(enc), repair=_Repair(enc), eliminate_duplicates=_HashDuplicates(),
+                     mutation=_Mutation(enc), repair=_Repair(enc), eliminate_duplicates=_HashDuplicates(enc),
                      survival=_TopologySurvival(enc))
         algo.setup(_Problem(study, enc), termination=("n_gen", generations), seed=seed, verbose=False)
         inject_at = ({generations // 3, (2 * generations) // 3}

@@ -23,7 +23,7 @@ from springsynth.search.front import topology_keys
 from springsynth.search.scoring import CONSTRAINTS, score
 from springsynth.search.settings import SETTINGS
 
-__all__ = ["random_genomes"]
+__all__ = ["random_genomes", "canonical_genomes"]
 
 
 class _Problem(Problem):
@@ -109,7 +109,8 @@ class _Mutation(Mutation):
     """Polynomial mutation on real and integer genes; reset-to-another-category on categories.
 
     A slot whose kind changes gets fresh random dimensions (the old ones meant
-    something else).
+    something else). Where chains are allowed, a slot's link gene flips (the slot joins
+    the branch before it in series, or parts from it) with the same probability.
     """
 
     def __init__(self, enc: Encoding, eta: float = SETTINGS.mutation_eta):
@@ -131,9 +132,13 @@ class _Mutation(Mutation):
             new = rng.integers(0 if s else 1, K + 1, n).astype(float)
             changed = change & (new != np.round(X[:, b]))
             X[changed, b] = new[changed]
-            X[np.ix_(changed, np.arange(b + 4, b + enc.genes_per_slot))] = rng.random((changed.sum(), enc.n_params))
+            X[np.ix_(changed, np.arange(b + 4, b + 4 + enc.n_params))] = rng.random((changed.sum(), enc.n_params))
             mm = rng.random(n) < p_var
             X[mm, b + 1] = rng.random(mm.sum()) * (1 - 1e-9)
+            if enc.link_gene and s > 0:     # join the slot to the branch before it, or part it
+                flip = rng.random(n) < p_var
+                g = b + enc.genes_per_slot - 1
+                X[flip, g] = 1.0 - np.round(X[flip, g])
         return X
 
 
@@ -167,11 +172,21 @@ class _Repair(Repair):
 
 
 class _HashDuplicates(DuplicateElimination):
-    """Duplicates by hashing rounded genome rows: O(n), not pymoo's O(n^2) distance matrix."""
+    """Duplicates by hashing rounded genome rows: O(n), not pymoo's O(n^2) distance matrix.
 
-    @staticmethod
-    def _keys(pop):
+    Where chains are allowed the genes that do not act are cleared first (a link slot's
+    own offset, a link gene that joins nothing), so that genomes of one design compare equal.
+    """
+
+    def __init__(self, enc: Encoding | None = None):
+        super().__init__()
+        self.enc = enc
+
+    def _keys(self, pop):
         X = pop.get("X")
+        enc = getattr(self, "enc", None)
+        if enc is not None and enc.link_gene:
+            X = canonical_genomes(enc, X)
         return [r.tobytes() for r in np.round(X, SETTINGS.duplicate_decimals)]
 
     def _do(self, pop, other, is_duplicate):
@@ -183,6 +198,18 @@ class _HashDuplicates(DuplicateElimination):
             else:
                 seen.add(k)
         return is_duplicate
+
+
+def canonical_genomes(enc: Encoding, X: np.ndarray) -> np.ndarray:
+    """Genomes with the genes that do not act cleared: link genes that join nothing, link slots' offsets."""
+    X = np.array(X, dtype=float)
+    g = enc.genes_per_slot
+    link = enc.links(X)
+    X[:, g - 1::g] = link
+    offs = X[:, 3::g]
+    offs[link] = 0.0
+    X[:, 3::g] = offs
+    return X
 
 
 class _TopologySurvival(RankAndCrowding):

@@ -86,12 +86,14 @@ def polish_designs(study: Study, enc: Encoding, X: np.ndarray, sc: Scores, *, ma
 def _free_genes(enc: Encoding, x: np.ndarray) -> np.ndarray:
     """Indices of the continuous genes of the occupied slots (offset and real-valued dimensions)."""
     out = []
+    link = enc.links(x[None, :])[0]
     for s in range(enc.n_slots):
         b = s * enc.genes_per_slot
         k = int(round(x[b])) - 1
         if k < 0:
             continue
-        out.append(b + 3)
+        if not link[s]:         # a chain's offset is its first slot's
+            out.append(b + 3)
         for j in range(enc.n_search_params[k]):
             if not enc.param_integer[k, j] and enc.param_choices[k, j] == 0:
                 out.append(b + 4 + j)

@@ -10,7 +10,7 @@ from typing import Callable, Sequence
 import numpy as np
 import pandas as pd
 
-from springsynth.assembly.design import Design
+from springsynth.assembly.design import Chain, Design
 from springsynth.checks.fatigue import fatigue_population
 from springsynth.elements import get_kind, margin_text, split_margins
 from springsynth.model.errors import InputError
@@ -80,6 +80,8 @@ class Synthesis:
     notices: tuple[str, ...] = ()
     #: worst fatigue ratio of each design under the study's duty, shape (n,); None without a duty
     fatigue_ratio: np.ndarray | None = None
+    #: stroke of each design's first snap (a chain's loading path folds), mm, NaN when none; shape (n,)
+    snap_mm: np.ndarray | None = None
 
     def to_frame(self) -> pd.DataFrame:
         return design_table(self)
@@ -118,7 +120,11 @@ def design_table(res: Synthesis) -> pd.DataFrame:
     ``in_spec_share`` when the search computed them, ``violations`` for infeasible
     designs; then per element j (slot order) ``e<j>_kind``, ``e<j>_material``,
     ``e<j>_count``, ``e<j>_offset_mm`` and ``e<j>_<parameter>``.
+    Where the study allows chains: also ``snap_mm``, and per element ``e<j>_branch`` (elements
+    of one chain share it) and, on a chain's first link, ``e<j>_chain_count`` (its
+    ``e<j>_offset_mm`` is the chain's).
     """
+    chains = getattr(res.study.search, "links_per_chain", 1) > 1
     rows = []
     for i, d in enumerate(res.designs):
         row = {
@@ -131,19 +137,15 @@ def design_table(res: Synthesis) -> pd.DataFrame:
             "feasible": bool(np.all(res.constraints[i] <= 0)),
             "topology": d.topology(),
         }
+        if chains:
+            row["snap_mm"] = res.snap_mm[i] if res.snap_mm is not None else np.nan
         if res.verified:
             row["verified_error_pct"] = res.verified.get(d.name, np.nan)
         if res.in_spec:
             row["in_spec_share"] = res.in_spec.get(d.name, np.nan)
         if not row["feasible"]:
             row["violations"] = res.binding(i)
-        for j, e in enumerate(d.elements, start=1):
-            row[f"e{j}_kind"] = e.kind
-            row[f"e{j}_material"] = e.material
-            row[f"e{j}_count"] = e.count
-            row[f"e{j}_offset_mm"] = e.offset_mm
-            for k, v in e.params.items():
-                row[f"e{j}_{k}"] = v
+        row.update(_part_columns(d, chains))
         rows.append(row)
     df = pd.DataFrame(rows)
     # group each element's columns together, in slot order, whatever kinds came first
@@ -151,6 +153,27 @@ def design_table(res: Synthesis) -> pd.DataFrame:
     slots = sorted({int(c[1:].split("_", 1)[0]) for c in df.columns if c not in head})
     order = head + [c for j in slots for c in df.columns if c.startswith(f"e{j}_")]
     return df[order]
+
+
+def _part_columns(d: Design, chains: bool) -> dict:
+    """``e<j>_...`` columns of every element of ``d`` (chain links included), in slot order."""
+    row: dict = {}
+    j = 0
+    for b, br in enumerate(d.branches, start=1):
+        links = br.links if isinstance(br, Chain) else (br,)
+        for k, e in enumerate(links):
+            j += 1
+            row[f"e{j}_kind"] = e.kind
+            row[f"e{j}_material"] = e.material
+            row[f"e{j}_count"] = e.count
+            row[f"e{j}_offset_mm"] = br.offset_mm if k == 0 else 0.0
+            if chains:
+                row[f"e{j}_branch"] = b
+                if isinstance(br, Chain) and k == 0:
+                    row[f"e{j}_chain_count"] = br.count
+            for name, v in e.params.items():
+                row[f"e{j}_{name}"] = v
+    return row
 
 
 def synthesize(study: Study, *, seed: int | None = None, population: int | None = None,
@@ -210,6 +233,7 @@ def synthesize(study: Study, *, seed: int | None = None, population: int | None 
         evaluations=out.evaluations, history=out.history, polish=out.polish,
         validity={k: np.asarray(v) for k, v in sc.response.validity.items()},
         partial=out.partial, checkpoint=out.checkpoint, verified=verified, in_spec=in_spec, fatigue_ratio=fatigue,
+        snap_mm=sc.response.snap_mm,
         timings={**out.timings, **({"verification_s": t_verify} if verified else {})}, notices=notices,
     )
 
@@ -259,7 +283,7 @@ def _verify_top(study: Study, designs, sc, top: int) -> dict[str, float]:
     out = {}
     for i in order:
         d = designs[i]
-        if not all(get_kind(e.kind).verify_quick for e in d.elements):  # left to `springsynth verify`
+        if not all(get_kind(e.kind).verify_quick for e in d.parts):  # left to `springsynth verify`
             out[d.name] = math.nan
             continue
         try:
