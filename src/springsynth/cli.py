@@ -167,7 +167,8 @@ def evaluate(
         from springsynth.io.files import save_figure
         from springsynth.report.plots import plot_design
 
-        save_figure(plot_design(d, r, target=target, title=f"{d.name}: {_arrangement_words(d)}"), plot)
+        r_plot = evaluate_design(d, x, at_snaps=True)       # the snap drawn as a vertical step
+        save_figure(plot_design(d, r_plot, target=target, title=f"{d.name}: {_arrangement_words(d)}"), plot)
         out.print(f"wrote {plot}")
     out.print(*fatigue, end="\n" if fatigue else "")
     _caution()
@@ -175,11 +176,11 @@ def evaluate(
 
 
 def _arrangement_words(d) -> str:
-    chains = sum(1 for b in d.branches if hasattr(b, "links"))
-    n = len(d.parts)
+    n, chains = len(d.parts), sum(1 for b in d.branches if hasattr(b, "links"))
     if not chains:
         return f"{n} element(s) in parallel"
-    return f"{n} element(s) in {len(d.branches)} parallel branch(es), {chains} of them chain(s) in series"
+    return f"{n} elements in {len(d.branches)} parallel branch(es), {chains} a chain of links in series" if \
+        chains == 1 else f"{n} elements in {len(d.branches)} parallel branches, {chains} of them chains in series"
 
 
 def _evaluation_frame(d, r):

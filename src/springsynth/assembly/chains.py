@@ -70,7 +70,7 @@ from dataclasses import dataclass
 
 import numpy as np
 
-__all__ = ["ChainPath", "unit_grid", "series_path", "follow", "GRID_POINTS"]
+__all__ = ["ChainPath", "unit_grid", "table_strokes", "continued", "series_path", "follow", "GRID_POINTS"]
 
 #: uniform steps of a link's table over its reach (plus a geometric start, kinks and the continuation)
 GRID_POINTS = 40
@@ -107,15 +107,61 @@ class ChainPath:
     snap_mm: np.ndarray
 
 
-def unit_grid(points: int = GRID_POINTS) -> np.ndarray:
-    """Stroke grid of a link's table on [0, 1] (times its reach), shape (1 + 8 + points,).
+def unit_grid(points: int = GRID_POINTS, geometric: int = _GEOMETRIC_POINTS) -> np.ndarray:
+    """Stroke grid of a link's table on [0, 1] (times its reach), shape (1 + geometric + points,).
 
-    Zero, geometric points from 1e-5 up to half the first uniform step (a stiff start,
-    such as a column's axial shortening before it buckles, is resolved to a few per
-    cent of its own extent), then ``points`` equal steps up to 1.
+    Zero, ``geometric`` points from 1e-5 up to half the first uniform step (a stiff start,
+    such as a column's axial shortening before it buckles, is resolved to a few per cent
+    of its own extent), then ``points`` equal steps up to 1.
     """
-    geo = np.geomspace(_GEOMETRIC_START, 0.5 / points, _GEOMETRIC_POINTS)
+    geo = np.geomspace(_GEOMETRIC_START, 0.5 / points, geometric)
     return np.r_[0.0, geo, np.linspace(1.0 / points, 1.0, points)]
+
+
+def table_strokes(reach: np.ndarray, kinks: np.ndarray, k_max: int, g: np.ndarray | None = None) -> np.ndarray:
+    """A link's table strokes: ``reach * g`` (n, G) with its kinks inside (0, reach) added, sorted.
+
+    Parameters
+    ----------
+    reach : ndarray, shape (n,)
+        Largest stroke of the table, mm.
+    kinks : ndarray, shape (n, k)
+        The kind's kinks (:meth:`ElementKind.stroke_kinks`), NaN where none; ``k <= k_max``.
+    k_max : int
+        Columns for kinks (the same for every link of a group of chains).
+    g : ndarray, shape (G,), optional
+        Unit grid (default :func:`unit_grid`).
+
+    Returns
+    -------
+    ndarray, shape (n, G + k_max)
+        A missing kink becomes the midpoint of a uniform step near the end (no stroke repeats).
+    """
+    g = unit_grid() if g is None else g
+    n = reach.size
+    if k_max == 0:
+        return reach[:, None] * g[None, :]
+    k = np.full((n, k_max), np.nan)
+    k[:, :kinks.shape[1]] = kinks
+    step = g[-1] - g[-2]
+    spare = reach[:, None] * (g[-1] - (np.arange(k_max) + 0.5) * step)[None, :]
+    k = np.where(np.isfinite(k) & (k > 0.0) & (k < reach[:, None]), k, spare)
+    return np.sort(np.concatenate([reach[:, None] * g[None, :], k], axis=1), axis=1)
+
+
+def continued(u: np.ndarray, F: np.ndarray, end: np.ndarray) -> tuple[np.ndarray, np.ndarray]:
+    """A link's table (n, N) with one more point at the strokes ``end`` (n,), at its last slope.
+
+    Past its reach a link's curve goes on at the slope of its last segment (its validity
+    margins flag a design that uses it there); ``F[:, 0]`` is set to 0 (engagement).
+    """
+    with np.errstate(all="ignore"):
+        slope = (F[:, -1] - F[:, -2]) / (u[:, -1] - u[:, -2])
+        last = F[:, -1] + slope * (end - u[:, -1])
+    u2 = np.concatenate([u, end[:, None]], axis=1)
+    F2 = np.concatenate([F, last[:, None]], axis=1)
+    F2[:, 0] = 0.0
+    return u2, F2
 
 
 def series_path(u_tab: np.ndarray, F_tab: np.ndarray, falling: np.ndarray | None = None) -> ChainPath:

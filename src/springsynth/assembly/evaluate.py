@@ -26,8 +26,8 @@ from dataclasses import dataclass
 
 import numpy as np
 
-from springsynth.assembly.chains import ChainPath, follow, series_path, unit_grid
-from springsynth.assembly.design import Design
+from springsynth.assembly.chains import ChainPath, continued, follow, series_path, table_strokes, unit_grid
+from springsynth.assembly.design import Chain, Design
 from springsynth.assembly.slots import Slots
 from springsynth.elements import get_kind
 from springsynth.model.materials import MaterialArrays
@@ -80,6 +80,8 @@ class Response:
     element_stroke_mm : ndarray, shape (n, S, m) or None
         Each element's own stroke (a chain link's deflection along its chain's loading
         path), when asked for.
+    element_stress_ratio : ndarray, shape (n, S, m) or None
+        Each element's stress / allowable at its own stroke, when asked for.
     """
 
     x_mm: np.ndarray
@@ -95,6 +97,7 @@ class Response:
     finite: np.ndarray
     snap_mm: np.ndarray | None = None
     element_stroke_mm: np.ndarray | None = None
+    element_stress_ratio: np.ndarray | None = None
 
     @property
     def validity_worst(self) -> np.ndarray:
@@ -172,6 +175,7 @@ class _Totals:
     validity: dict
     snap: np.ndarray
     elem_stroke: np.ndarray | None
+    elem_sr: np.ndarray | None
     f_s: np.ndarray
     sr_curve_s: np.ndarray | None
     u_s: np.ndarray | None
@@ -192,6 +196,7 @@ class _Totals:
             elem_force=np.zeros((n, S, m)) if detail else None, sr=z(), sr_curve=np.zeros((n, m)) if detail else None,
             along=z(), stack_w=z(), stack_h=z(), mass=z(), tmin=np.full(n, np.inf), finite=np.ones(n, dtype=bool),
             validity={}, snap=np.full(n, np.nan), elem_stroke=np.zeros((n, S, m)) if detail else None,
+            elem_sr=np.zeros((n, S, m)) if detail else None,
             f_s=np.empty((n, m)), sr_curve_s=np.empty((n, m)) if detail else None,
             u_s=np.empty((n, m)) if detail else None, peak_s=e(), along_s=e(), w_s=e(), h_s=e(), mass_s=e(),
             thin_s=e(), ok_s=np.empty(n, dtype=bool))
@@ -222,7 +227,7 @@ class _Totals:
             x_mm=x, force_N=self.force, element_force_N=self.elem_force,
             stress_ratio=np.where(finite, self.sr, np.inf), stress_ratio_curve=self.sr_curve, box_mm=box,
             size_mm3=size, mass_g=self.mass, validity=self.validity, min_thickness_mm=self.tmin, finite=finite,
-            snap_mm=self.snap, element_stroke_mm=self.elem_stroke,
+            snap_mm=self.snap, element_stroke_mm=self.elem_stroke, element_stress_ratio=self.elem_sr,
         )
 
 
@@ -349,6 +354,7 @@ def _gather_slot(ctx: _Context, tot: _Totals, j: int, order: np.ndarray) -> None
     if ctx.detail:
         tot.elem_force[:, j] = f_s[back]
         tot.elem_stroke[:, j] = tot.u_s[back]
+        tot.elem_sr[:, j] = tot.sr_curve_s[back]
         np.maximum(tot.sr_curve, tot.sr_curve_s[back], out=tot.sr_curve)
     tot.finite &= ok_s[back]
     np.maximum(tot.sr, tot.peak_s[back], out=tot.sr)
@@ -412,14 +418,14 @@ def _link_blocks(ctx: _Context, jj: int, rows: np.ndarray, sane: np.ndarray) -> 
     return out
 
 
-def _link_table(blocks: list[_Block], n: int, top_mm: np.ndarray, g: np.ndarray, k_max: int):
+def _link_table(blocks: list[_Block], n: int, top_mm: np.ndarray, k_max: int):
     """Each chain's link curve on its grid: strokes and forces (all copies) (n, N), falling flags, finite flags.
 
     The grid spans the link's reach (the chain's stroke ``top_mm``, or the kind's valid
-    stroke if shorter) with points at the kind's kinks; one more point continues the curve
-    at its last slope past the reach.
+    stroke if shorter) with points at the kind's kinks (:func:`table_strokes`); one more
+    point continues the curve at its last slope past the reach (:func:`continued`).
     """
-    N = g.size + k_max + 1
+    N = _LINK_GRID.size + k_max + 1
     u = np.empty((n, N))
     F = np.empty((n, N))
     falling = np.zeros(n, dtype=bool)
@@ -428,37 +434,15 @@ def _link_table(blocks: list[_Block], n: int, top_mm: np.ndarray, g: np.ndarray,
         top_b = top_mm[b.sel]
         with np.errstate(all="ignore"):
             reach = np.maximum(np.minimum(top_b, b.kind.stroke_reach(b.p)), 1e-9)
-            ub = _kinked_grid(g, reach, b.kind.stroke_kinks(b.p), k_max)
+            ub = table_strokes(reach, b.kind.stroke_kinks(b.p), k_max, _LINK_GRID)
             f = b.kind.force(b.p, b.mat, ub) * b.count[:, None]
-            f[:, 0] = 0.0
-            end = np.maximum(top_b, reach) * (1.0 + 1e-6) + 1e-9
-            slope = (f[:, -1] - f[:, -2]) / (ub[:, -1] - ub[:, -2])
-            last = f[:, -1] + slope * (end - reach)
-        u[b.sel, :-1], u[b.sel, -1] = ub, end
-        F[b.sel, :-1], F[b.sel, -1] = f, last
-        ok[b.sel] = b.sane & np.isfinite(f).all(axis=1) & np.isfinite(last)
+            u[b.sel], F[b.sel] = continued(ub, f, np.maximum(top_b, reach) * (1.0 + 1e-6) + 1e-9)
+        ok[b.sel] = b.sane & np.isfinite(F[b.sel]).all(axis=1)
         falling[b.sel] = not b.kind.monotonic_force
     bad = ~ok       # a benign stand-in keeps the composition finite; such chains count as not finite
     u[bad] = np.linspace(0.0, 2.0, N)[None, :]
     F[bad] = u[bad]
     return u, F, falling, ok
-
-
-def _kinked_grid(g: np.ndarray, reach: np.ndarray, kinks: np.ndarray, k_max: int) -> np.ndarray:
-    """Strokes ``reach * g`` (n, G) with the kinks inside (0, reach) added, sorted, shape (n, G + k_max).
-
-    A missing kink (NaN, or fewer than ``k_max``) becomes the midpoint of a uniform step, so
-    that no stroke repeats.
-    """
-    n = reach.size
-    if k_max == 0:
-        return reach[:, None] * g[None, :]
-    k = np.full((n, k_max), np.nan)
-    k[:, :kinks.shape[1]] = kinks
-    step = g[-1] - g[-2]                     # a uniform step of the grid
-    spare = reach[:, None] * (g[-1] - (np.arange(k_max) + 0.5) * step)[None, :]
-    k = np.where(np.isfinite(k) & (k > 0.0) & (k < reach[:, None]), k, spare)
-    return np.sort(np.concatenate([reach[:, None] * g[None, :], k], axis=1), axis=1)
 
 
 def _chain_group(ctx: _Context, tot: _Totals, j: int, L: int, rows: np.ndarray) -> None:
@@ -472,7 +456,7 @@ def _chain_group(ctx: _Context, tot: _Totals, j: int, L: int, rows: np.ndarray) 
     serv = np.maximum(x_max - off, 0.0)
     blocks = [_link_blocks(ctx, j + k, rows, sane) for k in range(L)]
     k_max = max(b.kind.stroke_kinks(b.p).shape[1] for bs in blocks for b in bs)
-    tables = [_link_table(b, n, top, _LINK_GRID, k_max) for b in blocks]
+    tables = [_link_table(b, n, top, k_max) for b in blocks]
     falls = np.stack([t[2] for t in tables])
     ok = np.all([t[3] for t in tables], axis=0) & (falls.sum(axis=0) <= 1)
     drv = np.where(falls.any(axis=0), np.argmax(falls, axis=0), -1)
@@ -578,6 +562,7 @@ def _chain_totals(ctx: _Context, tot: _Totals, j: int, rows, ccount, ok, f, link
         tot.elem_force[rows, j] = f
         for k, r in enumerate(results):
             tot.elem_stroke[rows, j + k] = link_x[k]
+            tot.elem_sr[rows, j + k] = r["curve"]
             tot.sr_curve[rows] = np.maximum(tot.sr_curve[rows], r["curve"])
 
 
@@ -595,9 +580,21 @@ def envelope_margins(box_mm: np.ndarray, env: Envelope) -> tuple[np.ndarray, np.
     return g_len, np.minimum(a, b) - 1.0
 
 
-def evaluate_design(design: Design, x_mm: np.ndarray, *, x_max_mm: float | None = None) -> Response:
-    """Evaluate one design (n = 1) with per-element detail; same code path as the search."""
-    return evaluate_population(Slots.from_designs([design]), x_mm, x_max_mm=x_max_mm, detail=True)
+def evaluate_design(design: Design, x_mm: np.ndarray, *, x_max_mm: float | None = None,
+                    at_snaps: bool = False) -> Response:
+    """Evaluate one design (n = 1) with per-element detail; same code path as the search.
+
+    ``at_snaps``: where a chain snaps, add the snap's stroke and one just past it to the
+    (sorted) stroke points, so that a plot draws the force's jump as a vertical step.
+    """
+    slots = Slots.from_designs([design])
+    r = evaluate_population(slots, x_mm, x_max_mm=x_max_mm, detail=True)
+    snap = float(r.snap_mm[0]) if r.snap_mm is not None else np.nan
+    if not (at_snaps and np.isfinite(snap)):
+        return r
+    x = np.asarray(x_mm, dtype=float)
+    x = np.unique(np.r_[x, snap, snap + 1e-9 * max(float(np.max(x)), 1.0)])
+    return evaluate_population(slots, x, x_max_mm=float(np.max(x_mm)) if x_max_mm is None else x_max_mm, detail=True)
 
 
 def element_extra_outputs(design: Design, x_mm: np.ndarray) -> dict[str, np.ndarray]:
@@ -612,16 +609,19 @@ def element_extra_outputs(design: Design, x_mm: np.ndarray) -> dict[str, np.ndar
     Returns
     -------
     dict of str -> ndarray, shape (m,)
-        ``e<j>_<name>`` (j counts the elements from 1, as the force columns of
-        ``springsynth evaluate``): per copy, on the element's own stroke ``x - offset``
-        (clipped at 0). Empty when no kind of the design provides any.
+        ``e<j>_<name>`` (j counts the elements from 1, chain links included, as the columns
+        of ``springsynth evaluate``): per copy, on the element's own stroke: ``x - offset``
+        (clipped at 0), or a chain link's stroke along its chain's loading path. Empty when
+        no kind of the design provides any.
     """
     x = np.asarray(x_mm, dtype=float).ravel()
+    strokes = evaluate_design(design, x).element_stroke_mm[0] if design.has_chain else None
     out: dict[str, np.ndarray] = {}
-    for j, e in enumerate(design.elements):
+    for j, ((b, _), e) in enumerate(zip(design.layout, design.parts)):
         p = {k: np.array([v]) for k, v in e.values().items()}
         mat = MaterialArrays.of(design.materials[e.material])
-        u = np.maximum(x - e.offset_mm, 0.0)[None, :]
+        in_chain = isinstance(design.branches[b], Chain)
+        u = (strokes[j] if in_chain else np.maximum(x - e.offset_mm, 0.0))[None, :]
         for name, v in get_kind(e.kind).extra_outputs(p, mat, u).items():
             out[f"e{j + 1}_{name}"] = np.asarray(v, dtype=float)[0]
     return out

@@ -248,6 +248,8 @@ def _perturb(slots: Slots, sig: _Sigmas, zp: np.ndarray, zo: np.ndarray, ze: np.
         params=par.reshape(n * k, S, P),
         kinds=slots.kinds,
         materials=mats,
+        link=np.repeat(slots.link, k, axis=0),
+        chain_count=np.repeat(slots.chain_count, k, axis=0),
     )
 
 
@@ -341,16 +343,21 @@ class ToleranceResult:
 
 
 def _quantities(design: Design, slots: Slots, sig: _Sigmas):
-    """(label, kind of quantity, slot, column, sigma, nominal, source) for every perturbed quantity."""
+    """(label, kind of quantity, slot, column, sigma, nominal, source) for every perturbed quantity.
+
+    A chain's links have no offset of their own: the chain's (its first link's slot) is perturbed once.
+    """
     out = []
-    for j, e in enumerate(design.elements):
+    for j, e in enumerate(design.parts):
         kind = slots.kinds[slots.kind[0, j]]
         for c, q in enumerate(kind.params):
             s = sig.params[0, j, c]
             if s > 0:
                 src = _source(q, slots.materials[slots.material[0, j]])
                 out.append((f"e{j + 1}.{q.name}", "param", j, c, s, slots.params[0, j, c], src))
-        out.append((f"e{j + 1}.offset_mm", "offset", j, -1, sig.offset[0, j], e.offset_mm, SOURCES["offset"]))
+        if not slots.link[0, j]:
+            out.append((f"e{j + 1}.offset_mm", "offset", j, -1, sig.offset[0, j], slots.offset_mm[0, j],
+                        SOURCES["offset"]))
         m = slots.material[0, j]
         out.append((f"e{j + 1}.modulus", "modulus", j, -1, sig.modulus[m], 1.0, SOURCES["modulus"]))
     return out

@@ -127,15 +127,13 @@ def _figures(run: ReportInput) -> tuple[dict[str, bytes], dict[str, bytes], dict
                                                                  max_error_pct=st.limits.max_error_pct))
     for i, d in enumerate(run.designs):
         r = responses[d.name]
-        elem_sr = None
-        if len(d.elements) > 1:
-            elem_sr = np.stack([evaluate_design(Design((e,), d.materials, name=d.name), x,
-                                                x_max_mm=stroke).stress_ratio_curve[0] for e in d.elements])
+        if r.snap_mm is not None and np.isfinite(r.snap_mm[0]):     # the snap drawn as a vertical step
+            r = evaluate_design(d, x, x_max_mm=stroke, at_snaps=True)
         state = "feasible" if feas[i] else "INFEASIBLE"
         title = (f"{d.name} ({state}): curve error {pct_text(F[i, 0])}, stress ratio {F[i, 1]:.3g}, "
                  f"size {size_text(F[i, 2])} mm³")
-        per_design[d.name] = P.png_bytes(P.plot_design(d, r, target=st.target, stress_limit=limit, title=title,
-                                                       element_stress=elem_sr), dpi=100, tight=False)
+        per_design[d.name] = P.png_bytes(P.plot_design(d, r, target=st.target, stress_limit=limit, title=title),
+                                         dpi=100, tight=False)
     return figs, per_design, responses, roles
 
 
@@ -362,28 +360,42 @@ def _param_unit(name: str) -> tuple[str, str]:
 
 
 def _elements_table(d: Design) -> str:
+    """One row per element; a chain's links share a branch, whose count and offset are the chain's."""
     rows = []
-    for j, e in enumerate(d.elements, start=1):
-        if e.offset_mm > 1e-6:
-            off = f"gap {e.offset_mm:.4g} mm"
-        elif e.offset_mm < -1e-6:
-            off = f"preload {-e.offset_mm:.4g} mm"
-        else:
-            off = "none"
-        dims = []
-        for k, v in e.params.items():
-            base, unit = _param_unit(k)
-            val = _e(v) if isinstance(v, str) else (f"{int(v)}" if isinstance(v, int) else f"{float(v):.4g}")
-            dims.append(f"{_e(base.replace('_', ' '))} {val}{(' ' + unit) if unit else ''}")
-        rows.append(f"<tr><td>e{j}</td><td>{_e(e.kind)}</td><td>{_e(e.material)}</td><td class=num>{e.count}</td>"
-                    f"<td>{_e(off)}</td><td>{'; '.join(dims)}</td></tr>")
-    return ("<table><thead><tr><th>element</th><th>kind</th><th>material</th><th class=num>count</th>"
-            "<th>offset</th><th>dimensions</th></tr></thead><tbody>" + "".join(rows) + "</tbody></table>")
+    chains = d.has_chain
+    j = 0
+    for b, br in enumerate(d.branches, start=1):
+        links = getattr(br, "links", None)
+        for k, e in enumerate(links or (br,)):
+            j += 1
+            off = _offset_text(br.offset_mm) if k == 0 else "(the chain's)"
+            dims = []
+            for name, v in e.params.items():
+                base, unit = _param_unit(name)
+                val = _e(v) if isinstance(v, str) else (f"{int(v)}" if isinstance(v, int) else f"{float(v):.4g}")
+                dims.append(f"{_e(base.replace('_', ' '))} {val}{(' ' + unit) if unit else ''}")
+            branch = ""
+            if chains:
+                what = f"chain ×{br.count}, link {k + 1} of {len(links)}" if links else "single"
+                branch = f"<td>{b} ({what})</td>"
+            rows.append(f"<tr><td>e{j}</td>{branch}<td>{_e(e.kind)}</td><td>{_e(e.material)}</td>"
+                        f"<td class=num>{e.count}</td><td>{_e(off)}</td><td>{'; '.join(dims)}</td></tr>")
+    return ("<table><thead><tr><th>element</th>" + ("<th>branch</th>" if chains else "")
+            + "<th>kind</th><th>material</th><th class=num>count</th><th>offset</th><th>dimensions</th></tr></thead>"
+            "<tbody>" + "".join(rows) + "</tbody></table>")
+
+
+def _offset_text(offset_mm: float) -> str:
+    if offset_mm > 1e-6:
+        return f"gap {offset_mm:.4g} mm"
+    if offset_mm < -1e-6:
+        return f"preload {-offset_mm:.4g} mm"
+    return "none"
 
 
 def _materials_table(d: Design) -> str:
     rows = []
-    used = dict.fromkeys(e.material for e in d.elements)
+    used = dict.fromkeys(e.material for e in d.parts)
     for mid in used:
         m = d.materials[mid]
         at = f" at {cycles_text(m.fatigue_cycles)} cycles"
@@ -402,7 +414,7 @@ def _materials_table(d: Design) -> str:
 
 def _model_notes(d: Design) -> str:
     items = []
-    for name in dict.fromkeys(e.kind for e in d.elements):
+    for name in dict.fromkeys(e.kind for e in d.parts):
         try:
             k = get_kind(name)
         except KeyError:
@@ -427,12 +439,15 @@ def _card(run: ReportInput, i: int, d: Design, r: Response, png: bytes | None, r
              f"mass {_num(row.get('mass_g'), '.3g')} g"]
     if "fatigue_ratio" in run.table:
         facts.insert(2, f"fatigue ratio {_num(row.get('fatigue_ratio'), '.3g')}")
+    if r.snap_mm is not None and math.isfinite(r.snap_mm[0]):
+        facts.append(f"a chain snaps at x = {r.snap_mm[0]:.3g} mm (the force jumps)")
     parts = [f'<section class=card id="card-{_e(d.name)}"><h3>{_e(d.name)} {badge}{tags}</h3>',
              f"<p>{' · '.join(facts)}</p>", f'<p class=topo>{_e(d.topology())}</p>']
     viol = row.get("violations")
     if not feas and isinstance(viol, str) and viol:
         parts.append(f"<p class=viol><b>Violates:</b> {_e(viol)}</p>")
-    extras = [c for c in extra_columns(run.table) if not (isinstance(row.get(c), float) and math.isnan(row.get(c)))]
+    extras = [c for c in extra_columns(run.table) if c != "snap_mm"
+              and not (isinstance(row.get(c), float) and math.isnan(row.get(c)))]
     if extras:
         parts.append("<h4>Verification and tolerance</h4><dl class=summary>"
                      + "".join(f"<dt>{_e(c)}</dt><dd>{_extra_num(c, row.get(c)) if _is_numeric(run.table[c]) else _e(row.get(c))}"

@@ -452,17 +452,20 @@ def plot_design(design: Design, resp: Response, *, target: Target | None = None,
     """
     fig, ax, ax2, lax = _design_axes(design, schematic)
     x = resp.x_mm
-    pos, neg = _stacked_contributions(ax, design, x, resp.element_force_N[0])
+    pos, neg = _branch_bands(ax, design, resp)
     if target is not None:
         plot_target(target, ax, over=True)
     ax.plot(x, resp.force_N[0], color=INK, lw=2.0, label="total force", zorder=5)
     ax.axhline(0, color="#888888", lw=0.8, zorder=3)
+    _mark_snap(ax, resp)
     if target is not None:
         lo, hi, _ = _force_limits(target, [resp.force_N[0], pos, neg])
         ax.set_ylim(lo, hi)
     ax.set_ylabel("force F [N]")
     ax.tick_params(labelbottom=False)
     ax.set_title(title or f"{design.name}: force along the stroke", loc="left")
+    if element_stress is None and resp.element_stress_ratio is not None:     # each element at its own stroke
+        element_stress = resp.element_stress_ratio[0]
     _stress_panel(ax2, design, x, resp.stress_ratio_curve[0], element_stress, stress_limit)
     _design_legends(ax, ax2, lax)
     ax.set_xlim(0, float(np.max(x)) * 1.01 if x.size else 1)
@@ -480,7 +483,7 @@ def _design_axes(design: Design, schematic: bool):
         fig, (ax, ax2) = plt.subplots(2, 1, figsize=(7.6, 6.4), sharex=True, height_ratios=[2.2, 1],
                                       gridspec_kw=dict(hspace=0.08, left=0.11, right=0.98, top=0.93, bottom=0.085))
         return fig, ax, ax2, None
-    extra = max(len(design.elements) - 2, 0)
+    extra = max(len(design.branches) - 2, 0)
     fig = plt.figure(figsize=(11.5, 6.6 + 0.5 * extra))
     gs = fig.add_gridspec(2, 2, width_ratios=[2.1, 1.0], height_ratios=[2.1 + 0.1 * extra, 1.0 + 0.25 * extra],
                           wspace=0.05, hspace=0.08, left=0.07, right=0.995, top=0.93, bottom=0.08)
@@ -492,29 +495,11 @@ def _design_axes(design: Design, schematic: bool):
     return fig, ax, ax2, lax
 
 
-def _stacked_contributions(ax, design: Design, x: np.ndarray, parts: np.ndarray):
-    """Each element's force as a band, positive ones stacked up from zero, negative ones down.
-
-    ``parts`` shape (S, m), N. Returns the upper and lower envelopes, each shape (m,).
-    """
-    pos = np.zeros_like(x)
-    neg = np.zeros_like(x)
-    for j, e in enumerate(design.elements):
-        f = np.nan_to_num(parts[j])
-        base = np.where(f >= 0, pos, neg)
-        words = _offset_words(e.offset_mm)
-        ax.fill_between(x, base, base + f, color=PALETTE[j % len(PALETTE)], alpha=0.5, lw=0, zorder=2,
-                        label=f"e{j + 1}: {e.count}× {e.kind} ({e.material})" + (f"\n      {words}" if words else ""))
-        pos = np.where(f >= 0, pos + f, pos)
-        neg = np.where(f < 0, neg + f, neg)
-    return pos, neg
-
-
 def _stress_panel(ax2, design: Design, x: np.ndarray, ratio: np.ndarray, element_stress, stress_limit) -> None:
     """The worst element's stress ratio ``ratio`` (shape (m,)), each element's own
     (``element_stress``, (S, m), with more than one element) and the limit, shaded beyond."""
-    if element_stress is not None and len(design.elements) > 1:
-        for j in range(min(len(design.elements), len(element_stress))):
+    if element_stress is not None and len(design.parts) > 1:
+        for j in range(min(len(design.parts), len(element_stress))):
             ax2.plot(x, element_stress[j], color=PALETTE[j % len(PALETTE)], lw=1.0, ls=DASHES[(j + 1) % len(DASHES)],
                      label=f"e{j + 1}")
     ax2.plot(x, ratio, color=INK, lw=1.8, label="stress / allowable, worst element")
@@ -546,6 +531,43 @@ def _design_legends(ax, ax2, lax) -> None:
     for t in (leg.get_texts()[0], leg.get_texts()[len(h1) + 1]):
         t.set_fontweight("bold")
         t.set_position((-30, 0))
+
+
+def _branch_bands(ax, design: Design, resp: Response) -> tuple[np.ndarray, np.ndarray]:
+    """Each branch's force as a band stacked from zero (positive up, negative down); returns the stacks.
+
+    A chain is one band (its force is the same through every link), drawn in its first
+    link's colour and labelled with its links in order.
+    """
+    x = resp.x_mm
+    parts = resp.element_force_N[0]
+    pos = np.zeros_like(x)
+    neg = np.zeros_like(x)
+    j = 0
+    for b in design.branches:
+        links = getattr(b, "links", None)
+        f = np.nan_to_num(parts[j])
+        base = np.where(f >= 0, pos, neg)
+        words = _offset_words(b.offset_mm)
+        if links is None:
+            label = f"e{j + 1}: {b.count}× {b.kind} ({b.material})"
+        else:
+            names = " › ".join(f"e{j + 1 + k} {f'{e.count}× ' if e.count > 1 else ''}{e.kind}" for k, e in enumerate(links))
+            label = f"{b.count}× chain: {names}"
+        ax.fill_between(x, base, base + f, color=PALETTE[j % len(PALETTE)], alpha=0.5, lw=0, zorder=2,
+                        label=label + (f"\n      {words}" if words else ""))
+        pos = np.where(f >= 0, pos + f, pos)
+        neg = np.where(f < 0, neg + f, neg)
+        j += len(links) if links is not None else 1
+    return pos, neg
+
+
+def _mark_snap(ax, resp: Response) -> None:
+    """A dotted line and a note where a chain snaps (the force jumps at constant stroke)."""
+    snap = resp.snap_mm[0] if resp.snap_mm is not None else math.nan
+    if not math.isfinite(snap):
+        return
+    ax.axvline(snap, color=MUTED, ls=":", lw=1.1, zorder=4, label=f"chain snaps at x = {snap:.3g} mm")
 
 
 def plot_tolerance(res: ToleranceResult, *, target=None, ax=None):

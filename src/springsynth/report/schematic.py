@@ -1,5 +1,6 @@
-"""The arrangement sketch: ground, shuttle and every element between them, each drawn as the glyph its
-kind declares (``ElementKind.glyph``), with gaps, preloads and counts marked."""
+"""The arrangement sketch: ground, shuttle and every branch between them, each element drawn as the glyph its
+kind declares (``ElementKind.glyph``), the links of a chain in series in one row with a floating plate
+between them; gaps, preloads and counts marked."""
 
 from __future__ import annotations
 
@@ -147,19 +148,18 @@ def _glyph(ax, glyph: str, params: Mapping, x0: float, x1: float, y: float, h: f
 
 @styled
 def plot_schematic(design: Design, *, ax=None):
-    """A small sketch of the arrangement: ground on the left, the shuttle on the right,
-    every element between them in parallel, drawn as our own glyph for its kind; gaps,
-    preloads and counts marked.
+    """A small sketch of the arrangement: ground on the left, the shuttle on the right, every
+    branch between them in parallel (one row each), each element drawn as our own glyph for
+    its kind; a chain's links in series along its row with a floating plate between them;
+    gaps, preloads and counts marked.
 
     Returns the axes when ``ax`` is given, else a new figure.
     """
     own = ax is None
+    n = len(design.branches)
     if own:
-        fig, ax = plt.subplots(figsize=(4.0, 1.0 + 0.9 * len(design.elements)))
-    n = len(design.elements)
-    row = 1.0
-    top = n * row
-    gx, sx = 0.0, 1.0  # ground and shuttle faces
+        fig, ax = plt.subplots(figsize=(4.0, 1.0 + 0.9 * n))
+    top = n * _ROW
     ax.set_xlim(-0.12, 1.32)
     ax.set_ylim(-0.3, top + 0.75)
     ax.axis("off")
@@ -167,36 +167,68 @@ def plot_schematic(design: Design, *, ax=None):
     pos = ax.get_position()
     fw, fh = ax.figure.get_size_inches()
     aspect = (1.44 / (pos.width * fw)) / ((top + 1.05) / (pos.height * fh))
-    ax.add_patch(Rectangle((gx - 0.06, -0.15), 0.06, top + 0.3, fc="#e6e6e6", ec="#777777", hatch="////", lw=0.8))
-    ax.add_patch(Rectangle((sx, -0.15), 0.05, top + 0.3, fc="#b9b9b9", ec="#555555", lw=0.8))
-    ax.annotate("", (sx - 0.02, top + 0.42), (sx + 0.22, top + 0.42),
-                arrowprops=dict(arrowstyle="-|>", color=INK, lw=1.2))
-    ax.text(sx + 0.1, top + 0.5, "stroke x", ha="center", va="bottom", fontsize=7.5, color=INK)
-    ax.text(gx - 0.03, top + 0.2, "fixed", ha="center", va="bottom", fontsize=7, color=MUTED)
-    ax.text(sx + 0.025, -0.2, "shuttle", ha="center", va="top", fontsize=7, color=MUTED)
-    for j, e in enumerate(design.elements):
-        color = PALETTE[j % len(PALETTE)]
-        y = top - (j + 0.5) * row
-        off = e.offset_mm
-        x1 = sx
-        if off > TINY_OFFSET_MM:  # gap: the element stops short of the shuttle
-            x1 = sx - 0.16
-            ax.annotate("", (x1, y), (sx, y), arrowprops=dict(arrowstyle="<->", color=INK, lw=0.8, shrinkA=0,
-                                                              shrinkB=0))
-            ax.text((x1 + sx) / 2, y + 0.07, f"gap\n{off:.2g} mm", ha="center", va="bottom", fontsize=6.2,
-                    color=INK, linespacing=1.0)
-        _glyph(ax, get_kind(e.kind).glyph, e.params, gx + 0.04, x1 - 0.02, y, 0.42 * row, color, aspect=aspect)
-        if off < -TINY_OFFSET_MM:  # preload: a pair of arrows squeezing the element
-            for xa, xb in ((0.3, 0.18), (0.7, 0.82)):
-                ax.annotate("", (xa, y + 0.3), (xb, y + 0.3), arrowprops=dict(arrowstyle="-|>", color=INK, lw=0.8))
-            ax.text(0.5, y + 0.3, f"preload {-off:.2g} mm", ha="center", va="center", fontsize=6.2, color=INK)
-        ax.text(gx + 0.04, y + 0.33, f"e{j + 1}", ha="left", va="center", fontsize=7.5, color=color,
-                fontweight="bold")
-        ax.text(sx + 0.09, y, f"×{e.count}", ha="left", va="center", fontsize=9, color=INK, fontweight="bold")
-        ax.text(0.5, y - 0.3, f"{e.kind} · {e.material}", ha="center", va="top", fontsize=6.2, color=INK)
-        if j < n - 1:
-            ax.plot([gx + 0.02, sx - 0.02], [y - 0.5 * row, y - 0.5 * row], color="#eeeeee", lw=0.6, zorder=0)
-    ax.set_title("arrangement (elements in parallel)", fontsize=9)
+    _frame(ax, top)
+    j = 0
+    for b, br in enumerate(design.branches):
+        y = top - (b + 0.5) * _ROW
+        links = getattr(br, "links", None) or (br,)
+        x1 = _offset_marks(ax, br.offset_mm, y)
+        _branch_row(ax, links, j, _GX + 0.04, x1 - 0.02, y, aspect, chain=len(links) > 1 or hasattr(br, "links"))
+        ax.text(_SX + 0.09, y, f"×{br.count}", ha="left", va="center", fontsize=9, color=INK, fontweight="bold")
+        if b < n - 1:
+            ax.plot([_GX + 0.02, _SX - 0.02], [y - 0.5 * _ROW, y - 0.5 * _ROW], color="#eeeeee", lw=0.6, zorder=0)
+        j += len(links)
+    chains = any(hasattr(br, "links") for br in design.branches)
+    ax.set_title("arrangement (branches in parallel, chains in series)" if chains
+                 else "arrangement (elements in parallel)", fontsize=9)
     if own:
         return ax.figure
     return ax
+
+
+#: row height, ground and shuttle faces (data units)
+_ROW, _GX, _SX = 1.0, 0.0, 1.0
+
+
+def _frame(ax, top: float) -> None:
+    """Ground (hatched, left), shuttle (right) and the stroke arrow."""
+    ax.add_patch(Rectangle((_GX - 0.06, -0.15), 0.06, top + 0.3, fc="#e6e6e6", ec="#777777", hatch="////", lw=0.8))
+    ax.add_patch(Rectangle((_SX, -0.15), 0.05, top + 0.3, fc="#b9b9b9", ec="#555555", lw=0.8))
+    ax.annotate("", (_SX - 0.02, top + 0.42), (_SX + 0.22, top + 0.42),
+                arrowprops=dict(arrowstyle="-|>", color=INK, lw=1.2))
+    ax.text(_SX + 0.1, top + 0.5, "stroke x", ha="center", va="bottom", fontsize=7.5, color=INK)
+    ax.text(_GX - 0.03, top + 0.2, "fixed", ha="center", va="bottom", fontsize=7, color=MUTED)
+    ax.text(_SX + 0.025, -0.2, "shuttle", ha="center", va="top", fontsize=7, color=MUTED)
+
+
+def _offset_marks(ax, off: float, y: float) -> float:
+    """Gap (the branch stops short of the shuttle) or preload arrows; returns where the branch ends."""
+    x1 = _SX
+    if off > TINY_OFFSET_MM:
+        x1 = _SX - 0.16
+        ax.annotate("", (x1, y), (_SX, y), arrowprops=dict(arrowstyle="<->", color=INK, lw=0.8, shrinkA=0, shrinkB=0))
+        ax.text((x1 + _SX) / 2, y + 0.07, f"gap\n{off:.2g} mm", ha="center", va="bottom", fontsize=6.2,
+                color=INK, linespacing=1.0)
+    elif off < -TINY_OFFSET_MM:   # a pair of arrows squeezing the branch
+        for xa, xb in ((0.3, 0.18), (0.7, 0.82)):
+            ax.annotate("", (xa, y + 0.3), (xb, y + 0.3), arrowprops=dict(arrowstyle="-|>", color=INK, lw=0.8))
+        ax.text(0.5, y + 0.3, f"preload {-off:.2g} mm", ha="center", va="center", fontsize=6.2, color=INK)
+    return x1
+
+
+def _branch_row(ax, links, j0: int, x0: float, x1: float, y: float, aspect: float, *, chain: bool) -> None:
+    """The elements of one branch along its row: one, or a chain's links with plates between them."""
+    L = len(links)
+    plate = 0.035 if chain else 0.0
+    width = (x1 - x0 - plate * (L - 1)) / L
+    for k, e in enumerate(links):
+        a = x0 + k * (width + plate)
+        color = PALETTE[(j0 + k) % len(PALETTE)]
+        _glyph(ax, get_kind(e.kind).glyph, e.params, a, a + width, y, 0.42 * _ROW, color, aspect=aspect)
+        if k < L - 1:   # the floating plate that joins two links
+            ax.add_patch(Rectangle((a + width, y - 0.2), plate, 0.4, fc="#d4d4d4", ec="#555555", lw=0.7, zorder=4))
+        count = f" ×{e.count}" if chain and e.count > 1 else ""
+        ax.text(a, y + 0.33, f"e{j0 + k + 1}{count}", ha="left", va="center", fontsize=7.5, color=color,
+                fontweight="bold")
+        words = f"{e.kind} · {e.material}" if L == 1 else e.kind
+        ax.text(a + width / 2, y - 0.3, words, ha="center", va="top", fontsize=6.2 if L == 1 else 5.6, color=INK)

@@ -53,6 +53,13 @@ notch_parallelogram       plane-stress finite elements of one circular notch hin
 
 Any other kind is reported as "not verified: no independent solver for <kind>".
 
+Chains: each link is re-solved by its kind's solver on its own stroke table (the strokes
+the assembly tabulates it on, up to its reach) and at the strokes the kernel's loading
+path gives it; the chain's verified force is then the series composition of the links'
+independent curves by the same loading-path construction as the kernels'
+(:func:`springsynth.assembly.chains.series_path`), snaps included. A link is compared on
+its own strokes along the path; the chain on the design's stroke (a ``chain`` row).
+
 Deviation measures (per element, per copy; and for the assembly):
 
     force_dev_pct  = 100 max_x |F_verified - F_kernel| / max_x |F_kernel|
@@ -75,7 +82,9 @@ from dataclasses import dataclass, field
 
 import numpy as np
 
-from springsynth.assembly.design import Design, Element
+from springsynth.assembly.chains import continued, follow, series_path, table_strokes, unit_grid
+from springsynth.assembly.design import Chain, Design, Element
+from springsynth.assembly.evaluate import evaluate_design
 from springsynth.checks.verify.coils import helical_rate_castigliano
 from springsynth.checks.verify.elastica import solve_half_span, solve_tip_loaded_beam
 from springsynth.checks.verify.hertz import hertz_force_numeric
@@ -87,7 +96,7 @@ from springsynth.model.errors import InputError
 from springsynth.model.materials import Material
 from springsynth.model.numbers import pct_text
 
-__all__ = ["VerificationReport", "ElementCheck", "verify_design", "verified_forces", "verified_error_pct",
+__all__ = ["VerificationReport", "ElementCheck", "ChainCheck", "verify_design", "verified_forces", "verified_error_pct",
            "THRESHOLD_PCT", "solve_tip_loaded_beam", "solve_half_span", "helical_rate_castigliano",
            "hertz_force_numeric", "ribbon_plateau_beam", "pad_force_fe", "pad_force_reference", "SOLVERS"]
 
@@ -137,6 +146,36 @@ class ElementCheck:
 
 
 @dataclass(frozen=True)
+class ChainCheck:
+    """Verification of one chain: its force composed from the links' independent curves.
+
+    Attributes
+    ----------
+    index : int
+        1-based number of the chain in the design.
+    first : int
+        1-based element number of its first link (the links follow in order).
+    links : int
+    force_kernel_N, force_verified_N : ndarray, shape (m,)
+        Force of all copies of the chain on the design's stroke points.
+    force_dev_pct : float
+    snap_kernel_mm, snap_verified_mm : float
+        Stroke of the first snap (NaN when none).
+    flagged : bool
+    """
+
+    index: int
+    first: int
+    links: int
+    force_kernel_N: np.ndarray = field(repr=False)
+    force_verified_N: np.ndarray = field(repr=False)
+    force_dev_pct: float
+    snap_kernel_mm: float
+    snap_verified_mm: float
+    flagged: bool
+
+
+@dataclass(frozen=True)
 class VerificationReport:
     """Result of :func:`verify_design`.
 
@@ -164,6 +203,7 @@ class VerificationReport:
     assembly_force_dev_pct: float
     assembly_stress_dev_pct: float
     threshold_pct: float = THRESHOLD_PCT
+    chains: tuple[ChainCheck, ...] = ()
 
     @property
     def flags(self) -> tuple[str, ...]:
@@ -176,6 +216,10 @@ class VerificationReport:
                 out.append(f"{self.design} element {e.index} ({e.kind}): force {_pct(e.force_dev_pct)}, "
                            f"stress {_pct(e.stress_dev_pct)} from the independent solution"
                            + (f" ({e.note})" if e.note else ""))
+        for c in self.chains:
+            if c.flagged:
+                out.append(f"{self.design} chain {c.index} (elements {c.first}-{c.first + c.links - 1}): force "
+                           f"{_pct(c.force_dev_pct)} from the composition of the links' independent curves")
         if self.assembly_force_dev_pct > self.threshold_pct or self.assembly_stress_dev_pct > self.threshold_pct:
             out.append(f"{self.design} assembly: force {_pct(self.assembly_force_dev_pct)}, "
                        f"peak stress ratio {_pct(self.assembly_stress_dev_pct)}")
@@ -188,6 +232,11 @@ class VerificationReport:
         rows = [{"design_id": self.design, "element": str(e.index), "kind": e.kind, "material": e.material,
                  "verified": e.verified, "force_dev_pct": e.force_dev_pct, "stress_dev_pct": e.stress_dev_pct,
                  "flagged": e.flagged, "method": e.method, "note": e.note} for e in self.elements]
+        rows += [{"design_id": self.design, "element": f"chain {c.index}", "kind": "chain", "material": "",
+                  "verified": all(e.verified for e in self.elements[c.first - 1:c.first - 1 + c.links]),
+                  "force_dev_pct": c.force_dev_pct, "stress_dev_pct": math.nan, "flagged": c.flagged,
+                  "method": f"series composition of elements {c.first}-{c.first + c.links - 1}", "note": ""}
+                 for c in self.chains]
         rows.append({"design_id": self.design, "element": "assembly", "kind": "", "material": "",
                      "verified": all(e.verified for e in self.elements) and math.isfinite(self.assembly_force_dev_pct),
                      "force_dev_pct": self.assembly_force_dev_pct, "stress_dev_pct": self.assembly_stress_dev_pct,
@@ -249,6 +298,86 @@ def _check_element(i: int, e: Element, mat: Material, x: np.ndarray, *, stress: 
                         fk, fv, srk, srv)
 
 
+#: a chain link's table for its independent solver: at most DIRECT_POINTS strokes, so each is solved
+_LINK_TABLE = unit_grid(14, geometric=4)
+
+
+def _link_solution(e: Element, mat: Material, u: np.ndarray):
+    """Kernel and independent force (all copies) and stress ratio of a chain link at its own strokes ``u``
+    (increasing, at most ``DIRECT_POINTS`` of them, so that the solver solves at every one).
+
+    Returns ``(fk, fv, srk, srv, compared, verified, method, note)``; where no independent
+    solution exists the kernel's force stands in for it (``verified`` False, the reason in ``note``).
+    """
+    kind = get_kind(e.kind)
+    vals = e.values()
+    raw = {q.name: (e.params[q.name] if q.choices else vals[q.name]) for q in kind.params}
+    fk, sk, allow = kernel_curves(kind, vals, mat, u)
+    fk, srk = fk * e.count, sk / allow
+    solver = solver_for(e.kind)
+    note = f"not verified: no independent solver for {e.kind}"
+    if solver is not None:
+        try:
+            solved = solver(e.kind, raw, mat, u)
+        except NotVerified as exc:
+            note = f"not verified: {exc}"
+        except RuntimeError as exc:
+            note = f"not verified: the independent solver did not converge ({exc})"
+        else:
+            compared = np.ones(u.size, bool) if solved.compared is None else solved.compared
+            fv = np.where(compared, np.nan_to_num(solved.force) * e.count, fk)
+            srv = solved.stress / allow if solved.stress is not None else np.full(u.size, np.nan)
+            return fk, fv, srk, srv, compared, True, solved.method, solved.note
+    return fk, fk.copy(), srk, np.full(u.size, np.nan), np.zeros(u.size, bool), False, "", note
+
+
+def _check_link(index: int, e: Element, mat: Material, grid: np.ndarray, path_u: np.ndarray):
+    """A chain link on its own strokes: solved on ``grid``, compared there up to its largest stroke on the
+    kernel's path; its curves along the path (``path_u`` at the design's stroke points) for the report."""
+    fk, fv, srk, srv, compared, verified, method, note = _link_solution(e, mat, grid)
+    used = compared & (grid <= max(float(np.max(path_u)), grid[1]))
+    fdev = _dev(fv, fk, used) if verified else math.nan
+    sdev = _dev(np.nan_to_num(srv), srk, used) if verified and np.isfinite(srv).any() else math.nan
+    flagged = any(math.isfinite(v) and v > THRESHOLD_PCT for v in (fdev, sdev))
+    fk_x, sk_x, allow = kernel_curves(get_kind(e.kind), e.values(), mat, path_u)
+    on = path_u > 0
+    fv_x = np.interp(path_u, grid, fv) * on
+    srv_x = np.where(on, np.interp(path_u, grid, srv), np.nan) if np.isfinite(srv).all() else np.full(path_u.size, np.nan)
+    check = ElementCheck(index, e.kind, e.material, verified, method, note, fdev, sdev, flagged,
+                         fk_x * e.count * on, fv_x, sk_x / allow * on, srv_x)
+    return check, fv
+
+
+def _check_chain(first: int, index: int, chain: Chain, mats, x: np.ndarray):
+    """Element checks of a chain's links and the chain's check (see the module notes)."""
+    kernel = evaluate_design(Design((chain,), {e.material: mats[e.material] for e in chain.links}, name="chain"), x)
+    top = max(float(np.max(x)) - chain.offset_mm, 1e-9)
+    params = [{q: np.array([v]) for q, v in e.values().items()} for e in chain.links]
+    k_max = max(get_kind(e.kind).stroke_kinks(p).shape[1] for e, p in zip(chain.links, params))
+    u_tab, F_tab, checks = [], [], []
+    for k, (e, p) in enumerate(zip(chain.links, params)):
+        kind = get_kind(e.kind)
+        reach = np.maximum(np.minimum(np.array([top]), kind.stroke_reach(p)), 1e-9)
+        grid = table_strokes(reach, kind.stroke_kinks(p), k_max, _LINK_TABLE)[0]
+        check, fv = _check_link(first + k, e, mats[e.material], grid, kernel.element_stroke_mm[0, k])
+        checks.append(check)
+        ut, Ft = continued(grid[None, :], fv[None, :], np.array([max(top, reach[0]) * (1 + 1e-6) + 1e-9]))
+        u_tab.append(ut)
+        F_tab.append(Ft)
+    falls = [not get_kind(e.kind).monotonic_force for e in chain.links]
+    path = series_path(np.stack(u_tab), np.stack(F_tab), np.array([falls.index(True) if any(falls) else -1]))
+    u = x - chain.offset_mm
+    order = np.argsort(u, kind="stable")
+    fv_chain = np.empty(x.size)
+    fv_chain[order] = follow(path, u[order][None, :], links=None)[0][0] * chain.count
+    fk_chain = kernel.force_N[0]
+    dev = _dev(fv_chain, fk_chain, u > 0)
+    cc = ChainCheck(index, first, len(chain.links), fk_chain, fv_chain, dev if math.isfinite(dev) else 0.0,
+                    float(kernel.snap_mm[0]), chain.offset_mm + float(path.snap_mm[0]),
+                    math.isfinite(dev) and dev > THRESHOLD_PCT)
+    return checks, cc
+
+
 def verify_design(design: Design, x_mm: np.ndarray) -> VerificationReport:
     """Re-solve every element of ``design`` independently at the stroke points ``x_mm``.
 
@@ -265,9 +394,19 @@ def verify_design(design: Design, x_mm: np.ndarray) -> VerificationReport:
     x = np.asarray(x_mm, dtype=float).ravel()
     if x.size < 2 or not np.all(np.isfinite(x)) or np.any(x < 0):
         raise InputError("stroke points must be at least two finite displacements >= 0 mm", where=design.name)
-    checks = tuple(_check_element(i + 1, e, design.materials[e.material], x) for i, e in enumerate(design.elements))
-    fk = np.sum([c.force_kernel_N for c in checks], axis=0)
-    fv = np.sum([c.force_verified_N for c in checks], axis=0)
+    checks: list[ElementCheck] = []
+    chains: list[ChainCheck] = []
+    fk = np.zeros(x.size)
+    fv = np.zeros(x.size)
+    for b in design.branches:
+        if isinstance(b, Chain):
+            links, cc = _check_chain(len(checks) + 1, len(chains) + 1, b, design.materials, x)
+            checks += links
+            chains.append(cc)
+            fk, fv = fk + cc.force_kernel_N, fv + cc.force_verified_N
+        else:
+            checks.append(_check_element(len(checks) + 1, b, design.materials[b.material], x))
+            fk, fv = fk + checks[-1].force_kernel_N, fv + checks[-1].force_verified_N
     # the assembly is compared only where some element was: otherwise kernel against itself reads "0 %"
     dev = _dev(fv, fk, np.ones(x.size, bool)) if any(c.verified for c in checks) else math.nan
     srk = max(float(np.max(c.stress_ratio_kernel)) for c in checks)
@@ -276,7 +415,7 @@ def verify_design(design: Design, x_mm: np.ndarray) -> VerificationReport:
     srv = max(float(np.max(s)) for s in srv_each)
     stress_compared = any(np.isfinite(c.stress_ratio_verified).any() for c in checks)
     sdev = 100.0 * abs(srv - srk) / srk if srk > 0 and stress_compared else math.nan
-    return VerificationReport(design.name, x, checks, fk, fv, dev, sdev)
+    return VerificationReport(design.name, x, tuple(checks), fk, fv, dev, sdev, chains=tuple(chains))
 
 
 def verified_forces(design: Design, x_mm: np.ndarray) -> np.ndarray:
