@@ -41,7 +41,8 @@ Discretisation
 --------------
 Each link is tabulated on its own stroke grid (:func:`unit_grid` times its reach: the
 chain's stroke, or the link's valid stroke if shorter, with points at the kind's
-kinks, and continued beyond at its last slope so that a link driven past its range is
+marks (:meth:`ElementKind.stroke_marks`: corners and sharp bends), and continued beyond
+at its last slope so that a link driven past its range is
 flagged by its validity margins, never silently clipped). Monotone links are made
 non-decreasing by their running maximum and strictly increasing by adding ``1e-10``
 of their force scale over the table, so that their inverse is single valued.
@@ -70,10 +71,13 @@ from dataclasses import dataclass
 
 import numpy as np
 
-__all__ = ["ChainPath", "unit_grid", "table_strokes", "continued", "series_path", "follow", "GRID_POINTS"]
+__all__ = ["ChainPath", "unit_grid", "table_strokes", "continued", "series_path", "follow", "GRID_POINTS",
+           "GRID_POINTS_FALLING"]
 
-#: uniform steps of a link's table over its reach (plus a geometric start, kinks and the continuation)
+#: uniform steps of a link's table over its reach (plus a geometric start, the kind's marks and the continuation),
+#: and in chains through a falling link (whose curve bends sharply on either side of its snap path)
 GRID_POINTS = 40
+GRID_POINTS_FALLING = 40
 #: geometric points below the first uniform step (resolve stiff starts, e.g. a column before it buckles)
 _GEOMETRIC_POINTS = 8
 #: smallest geometric point, as a fraction of the reach
@@ -118,31 +122,31 @@ def unit_grid(points: int = GRID_POINTS, geometric: int = _GEOMETRIC_POINTS) -> 
     return np.r_[0.0, geo, np.linspace(1.0 / points, 1.0, points)]
 
 
-def table_strokes(reach: np.ndarray, kinks: np.ndarray, k_max: int, g: np.ndarray | None = None) -> np.ndarray:
-    """A link's table strokes: ``reach * g`` (n, G) with its kinks inside (0, reach) added, sorted.
+def table_strokes(reach: np.ndarray, marks: np.ndarray, k_max: int, g: np.ndarray | None = None) -> np.ndarray:
+    """A link's table strokes: ``reach * g`` (n, G) with its marks inside (0, reach) added, sorted.
 
     Parameters
     ----------
     reach : ndarray, shape (n,)
         Largest stroke of the table, mm.
-    kinks : ndarray, shape (n, k)
-        The kind's kinks (:meth:`ElementKind.stroke_kinks`), NaN where none; ``k <= k_max``.
+    marks : ndarray, shape (n, k)
+        The kind's marks (:meth:`ElementKind.stroke_marks`), NaN where none; ``k <= k_max``.
     k_max : int
-        Columns for kinks (the same for every link of a group of chains).
+        Columns for marks (the same for every link of a group of chains).
     g : ndarray, shape (G,), optional
         Unit grid (default :func:`unit_grid`).
 
     Returns
     -------
     ndarray, shape (n, G + k_max)
-        A missing kink becomes the midpoint of a uniform step near the end (no stroke repeats).
+        A missing mark becomes the midpoint of a uniform step near the end (no stroke repeats).
     """
     g = unit_grid() if g is None else g
     n = reach.size
     if k_max == 0:
         return reach[:, None] * g[None, :]
     k = np.full((n, k_max), np.nan)
-    k[:, :kinks.shape[1]] = kinks
+    k[:, :marks.shape[1]] = marks
     step = g[-1] - g[-2]
     spare = reach[:, None] * (g[-1] - (np.arange(k_max) + 0.5) * step)[None, :]
     k = np.where(np.isfinite(k) & (k > 0.0) & (k < reach[:, None]), k, spare)
@@ -245,15 +249,17 @@ def _lerp(a: np.ndarray, lo: np.ndarray, t: np.ndarray) -> np.ndarray:
 
 
 def _rank(xp: np.ndarray, q: np.ndarray) -> np.ndarray:
-    """Number of ``xp`` values <= each query, per row; ``xp`` (n, W) and ``q`` (n, Q) sorted along rows.
+    """Number of ``xp`` values < each query, per row; ``xp`` (n, W) and ``q`` (n, Q) sorted along rows.
 
-    A stable sort of the two sorted runs side by side is a merge; the queries keep their
-    order, so the k-th query of a row sits at sorted position ``k + rank``.
+    A stable sort of the two sorted runs side by side is a merge; the queries come first, so
+    a query ties before equal ``xp`` (at a snap's stroke itself the chain is still on the
+    branch before the fold); they keep their order, so the k-th query of a row sits at
+    sorted position ``k + rank``.
     """
     n, W = xp.shape
     Q = q.shape[1]
-    order = np.argsort(np.concatenate([xp, q], axis=1), axis=1, kind="stable")
-    return np.nonzero(order >= W)[1].reshape(n, Q) - np.arange(Q)[None, :]
+    order = np.argsort(np.concatenate([q, xp], axis=1), axis=1, kind="stable")
+    return np.nonzero(order < Q)[1].reshape(n, Q) - np.arange(Q)[None, :]
 
 
 def _count_le(xp: np.ndarray, q: np.ndarray) -> np.ndarray:

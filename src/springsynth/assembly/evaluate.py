@@ -26,7 +26,15 @@ from dataclasses import dataclass
 
 import numpy as np
 
-from springsynth.assembly.chains import ChainPath, continued, follow, series_path, table_strokes, unit_grid
+from springsynth.assembly.chains import (
+    GRID_POINTS_FALLING,
+    ChainPath,
+    continued,
+    follow,
+    series_path,
+    table_strokes,
+    unit_grid,
+)
 from springsynth.assembly.design import Chain, Design
 from springsynth.assembly.slots import Slots
 from springsynth.elements import get_kind
@@ -45,8 +53,10 @@ _STRESS_GRID = 33
 _CHUNK_ROWS = 2048
 #: chains per chunk when following their loading paths (the temporaries stay in cache)
 _CHAIN_ROWS = 1024
-#: a chain link's table: the stroke grid on [0, 1] (times the link's reach)
+#: a chain link's table: the stroke grid on [0, 1] (times the link's reach); finer where a chain goes
+#: through a falling link (its curve bends sharply on either side of its snap path)
 _LINK_GRID = unit_grid()
+_LINK_GRID_FALLING = unit_grid(GRID_POINTS_FALLING)
 
 
 @dataclass(frozen=True)
@@ -418,14 +428,14 @@ def _link_blocks(ctx: _Context, jj: int, rows: np.ndarray, sane: np.ndarray) -> 
     return out
 
 
-def _link_table(blocks: list[_Block], n: int, top_mm: np.ndarray, k_max: int):
+def _link_table(blocks: list[_Block], n: int, top_mm: np.ndarray, k_max: int, grid: np.ndarray):
     """Each chain's link curve on its grid: strokes and forces (all copies) (n, N), falling flags, finite flags.
 
     The grid spans the link's reach (the chain's stroke ``top_mm``, or the kind's valid
-    stroke if shorter) with points at the kind's kinks (:func:`table_strokes`); one more
+    stroke if shorter) with points at the kind's marks (:func:`table_strokes`); one more
     point continues the curve at its last slope past the reach (:func:`continued`).
     """
-    N = _LINK_GRID.size + k_max + 1
+    N = grid.size + k_max + 1
     u = np.empty((n, N))
     F = np.empty((n, N))
     falling = np.zeros(n, dtype=bool)
@@ -434,7 +444,7 @@ def _link_table(blocks: list[_Block], n: int, top_mm: np.ndarray, k_max: int):
         top_b = top_mm[b.sel]
         with np.errstate(all="ignore"):
             reach = np.maximum(np.minimum(top_b, b.kind.stroke_reach(b.p)), 1e-9)
-            ub = table_strokes(reach, b.kind.stroke_kinks(b.p), k_max, _LINK_GRID)
+            ub = table_strokes(reach, b.kind.stroke_marks(b.p), k_max, grid)
             f = b.kind.force(b.p, b.mat, ub) * b.count[:, None]
             u[b.sel], F[b.sel] = continued(ub, f, np.maximum(top_b, reach) * (1.0 + 1e-6) + 1e-9)
         ok[b.sel] = b.sane & np.isfinite(F[b.sel]).all(axis=1)
@@ -455,8 +465,9 @@ def _chain_group(ctx: _Context, tot: _Totals, j: int, L: int, rows: np.ndarray) 
     top = np.maximum(max(x_max, float(np.max(x, initial=0.0))) - off, 0.0)
     serv = np.maximum(x_max - off, 0.0)
     blocks = [_link_blocks(ctx, j + k, rows, sane) for k in range(L)]
-    k_max = max(b.kind.stroke_kinks(b.p).shape[1] for bs in blocks for b in bs)
-    tables = [_link_table(b, n, top, k_max) for b in blocks]
+    k_max = max(b.kind.stroke_marks(b.p).shape[1] for bs in blocks for b in bs)
+    falling = any(not b.kind.monotonic_force for bs in blocks for b in bs)
+    tables = [_link_table(b, n, top, k_max, _LINK_GRID_FALLING if falling else _LINK_GRID) for b in blocks]
     falls = np.stack([t[2] for t in tables])
     ok = np.all([t[3] for t in tables], axis=0) & (falls.sum(axis=0) <= 1)
     drv = np.where(falls.any(axis=0), np.argmax(falls, axis=0), -1)

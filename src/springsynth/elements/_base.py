@@ -234,9 +234,13 @@ class ElementKind:
         """
         return np.full(np.shape(next(iter(p.values())))[0], np.inf)
 
-    def stroke_kinks(self, p: Params) -> np.ndarray:
-        """Own strokes where the force curve turns a corner (a bifurcation, the end of a ramp), mm,
-        shape (n, k); NaN where a design has none. A chain's table of the link puts points there."""
+    def stroke_marks(self, p: Params) -> np.ndarray:
+        """Own strokes a table of the force curve should include, mm, shape (n, k); NaN where a design has none.
+
+        The corners of the curve (a bifurcation, the end of a ramp) and points where it bends
+        sharply; a chain's table of the link (:mod:`springsynth.assembly.chains`) puts points
+        there, so that its piecewise linear curve follows the kernel closely.
+        """
         return np.empty((np.shape(next(iter(p.values())))[0], 0))
 
     # ---- fatigue (optional override) ------------------------------------------------

@@ -396,12 +396,16 @@ class Arch(ElementKind):
     def stroke_reach(self, p):
         return DELTA_MAX * p["rise_mm"]
 
-    def stroke_kinks(self, p):
-        """The ends of the snap path, ``Delta_b1 h`` and ``Delta_b2 h`` (NaN below the threshold Q)."""
+    def stroke_marks(self, p):
+        """The ends of the snap path, ``Delta_b1 h`` and ``Delta_b2 h``, and where the curve bends: six
+        points on the rise before the path and twelve on the stiffening rise after it (the path
+        itself is straight); NaN below the threshold Q, where the curve is smooth."""
         h = p["rise_mm"]
         d1, d2 = snap_strokes(h / p["thickness_mm"], table()["snap_quadratic"])
-        ok = d2 > d1
-        return np.stack([np.where(ok, d1 * h, np.nan), np.where(ok, d2 * h, np.nan)], axis=1)
+        rise = d1[:, None] * np.linspace(0.15, 0.9, 6)[None, :]
+        after = d2[:, None] + (DELTA_MAX - d2)[:, None] * (np.arange(1, 13) / 13.0)[None, :]
+        marks = np.concatenate([d1[:, None], d2[:, None], rise, after], axis=1)
+        return np.where((d2 > d1)[:, None], marks * h[:, None], np.nan)
 
     def validity_margins(self, p, mat, u_max):
         l, t, h = p["length_mm"], p["thickness_mm"], p["rise_mm"]

@@ -95,7 +95,7 @@ class Column(ElementKind):
     def stroke_reach(self, p):
         return SHORTENING_MAX * p["length_mm"]
 
-    def stroke_kinks(self, p):
+    def stroke_marks(self, p):
         """A straight column's shortening at its Euler load, ``P_cr L / (E A)`` (NaN when curved)."""
         K, alpha, eps = self._geometry(p)
         return np.where(alpha > 0.0, np.nan, eps * p["length_mm"])[:, None]

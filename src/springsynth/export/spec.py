@@ -40,7 +40,7 @@ from typing import Any
 
 import numpy as np
 
-from springsynth.assembly.design import Design, Element
+from springsynth.assembly.design import Chain, Design, Element
 from springsynth.assembly.evaluate import evaluate_design
 from springsynth.checks.tolerance import SOURCES as TOLERANCE_SOURCES
 from springsynth.checks.tolerance import material_class, param_tolerance
@@ -179,15 +179,15 @@ class DesignSpec:
 # --------------------------------------------------------------------------- walking a design
 
 def parts(design: Design, stroke: Stroke) -> tuple[PartRef, ...]:
-    """Every element of ``design`` with its own deflections along ``stroke``.
+    """Every element of ``design`` (chain links included) with its own deflections along ``stroke``.
 
     This is the one place that walks a design's elements; everything else in the export
-    iterates over its result. Elements act in parallel, so an element's own deflection
-    is ``max(x - offset, 0)``. A design with chains of elements in series needs only
-    this function taught to walk the chain's links and to share the stroke between them.
+    iterates over its result. A branch of one element deflects ``max(x - offset, 0)``; a
+    chain's link deflects as its chain's loading path shares the stroke between the links
+    (the model's own strokes, :attr:`Response.element_stroke_mm`), and its quantity is
+    the link's copies times the chain's.
     """
-    out = []
-    for i, e in enumerate(design.elements, start=1):
+    for i, e in enumerate(design.parts, start=1):
         where = f"{design.name} element {i}"
         try:
             kind = get_kind(e.kind)
@@ -198,9 +198,29 @@ def parts(design: Design, stroke: Stroke) -> tuple[PartRef, ...]:
             raise InputError(f"missing {', '.join(missing)}; {e.kind} needs {', '.join(kind.param_names)}", where=where)
         if e.material not in design.materials:
             raise InputError(f"material {e.material!r} is not resolved", where=where)
-        defl = tuple(max(x - e.offset_mm, 0.0) for x in stroke.points_mm)
+    x = np.asarray(stroke.points_mm, dtype=float)
+    strokes = evaluate_design(design, x).element_stroke_mm[0] if design.has_chain else None
+    out, chain_no = [], 0
+    for i, ((b, k), e) in enumerate(zip(design.layout, design.parts), start=1):
+        br = design.branches[b]
+        if isinstance(br, Chain):
+            chain_no += k == 0
+            words = _position_words(br.offset_mm)
+            path = f"chain {chain_no} ({words}), link {k + 1} of {len(br.links)} in series"
+            out.append(PartRef(f"e{i}", path, dataclasses.replace(e, count=e.count * br.count),
+                               design.materials[e.material], tuple(float(v) for v in strokes[i - 1])))
+            continue
+        defl = tuple(max(v - e.offset_mm, 0.0) for v in stroke.points_mm)
         out.append(PartRef(f"e{i}", f"element {i}", e, design.materials[e.material], defl))
     return tuple(out)
+
+
+def _position_words(o: float) -> str:
+    if o > 1e-9:
+        return f"gap {o:.4g} mm: engages once the stroke passes {o:.4g} mm"
+    if o < -1e-9:
+        return f"preloaded by {-o:.4g} mm at the start of the stroke (x = 0)"
+    return "engaged from the start of the stroke"
 
 
 def mount_length(t: float) -> float:
@@ -302,13 +322,7 @@ def _grade(part: PartRef) -> str:
 
 def _head(design: Design, part: PartRef) -> dict[str, Any]:
     e = part.element
-    o = e.offset_mm
-    if o > 1e-9:
-        pos = f"gap {o:.4g} mm: engages once the stroke passes {o:.4g} mm"
-    elif o < -1e-9:
-        pos = f"preloaded by {-o:.4g} mm at the start of the stroke (x = 0)"
-    else:
-        pos = "engaged from the start of the stroke"
+    pos = part.path if part.path.startswith("chain") else _position_words(e.offset_mm)
     copies = ", ".join(f"{part.label}-{k}" for k in range(1, e.count + 1))
     if e.count > 1:
         copies += " (identical copies side by side, in parallel)"

@@ -353,12 +353,12 @@ def _check_chain(first: int, index: int, chain: Chain, mats, x: np.ndarray):
     kernel = evaluate_design(Design((chain,), {e.material: mats[e.material] for e in chain.links}, name="chain"), x)
     top = max(float(np.max(x)) - chain.offset_mm, 1e-9)
     params = [{q: np.array([v]) for q, v in e.values().items()} for e in chain.links]
-    k_max = max(get_kind(e.kind).stroke_kinks(p).shape[1] for e, p in zip(chain.links, params))
+    k_max = max(get_kind(e.kind).stroke_marks(p).shape[1] for e, p in zip(chain.links, params))
     u_tab, F_tab, checks = [], [], []
     for k, (e, p) in enumerate(zip(chain.links, params)):
         kind = get_kind(e.kind)
         reach = np.maximum(np.minimum(np.array([top]), kind.stroke_reach(p)), 1e-9)
-        grid = table_strokes(reach, kind.stroke_kinks(p), k_max, _LINK_TABLE)[0]
+        grid = table_strokes(reach, kind.stroke_marks(p), k_max, _LINK_TABLE)[0]
         check, fv = _check_link(first + k, e, mats[e.material], grid, kernel.element_stroke_mm[0, k])
         checks.append(check)
         ut, Ft = continued(grid[None, :], fv[None, :], np.array([max(top, reach[0]) * (1 + 1e-6) + 1e-9]))
