@@ -291,7 +291,8 @@ def check(file: Path = typer.Argument(..., metavar="FILE", help="a target CSV, a
     out.print(f"{file}: study {st.name!r}: target {st.target_path}{f' ({scaled})' if scaled else ''} "
               f"({st.target.x_mm.size} points, stroke "
               f"{st.target.stroke_mm:g} mm); {len(st.search.kinds)} kinds, {len(st.search.materials)} materials, "
-              f"up to {st.search.max_elements} elements")
+              f"up to {st.search.max_elements} elements"
+              + (f", chains of up to {st.search.links_per_chain} in series" if st.search.links_per_chain > 1 else ""))
 
 
 # ------------------------------------------------------------------------- run

@@ -202,3 +202,16 @@ def test_pareto_table_has_snap_and_branches(chain_study):
 def test_shipped_chain_example_reads():
     st = ss.load_study(ROOT / "studies" / "capper-press.toml")
     assert st.search.max_chain == 2
+
+
+def test_tolerance_of_a_chain_perturbs_the_chain_as_a_whole():
+    from springsynth.checks.tolerance import tolerance_analysis
+
+    d = make(Chain((COIL, COLUMN), 1, -0.2), name="cc")
+    x = np.linspace(0.0, 6.0, 13)
+    res = tolerance_analysis(d, x, n_samples=64, seed=1)
+    q = list(res.sensitivity["quantity"])
+    assert "e1.offset_mm" in q and "e2.offset_mm" not in q          # the chain's offset, once
+    assert "e2.thickness_mm" in q
+    assert np.all(res.p05_N <= res.p95_N + 1e-12)
+    assert res.nominal_N == pytest.approx(evaluate_design(d, x).force_N[0], rel=1e-9, abs=1e-12)

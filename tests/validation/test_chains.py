@@ -287,3 +287,20 @@ def test_chain_force_against_independently_composed_curves(name):
     print(f"\n{name}: largest deviation {dev:.4f} % of the largest force" + (f"; snap at {snap:.4f} mm "
           f"(reference {fold:.4f} mm)" if math.isfinite(snap) else ""))
     assert dev < _TOL_PCT
+
+
+@pytest.mark.slow
+def test_verify_composes_the_chain_from_the_links_independent_curves():
+    """`verify`: each link re-solved by its own independent method (the coil by Castigliano's energy
+    integral, the column by an elastica boundary-value problem), the chain composed from those curves by
+    the same loading-path construction; the composed force stays within the verification threshold."""
+    from springsynth.checks.verify import THRESHOLD_PCT, verify_design
+
+    d = chain_design(COIL, COLUMN)
+    rep = verify_design(d, np.linspace(0.0, 6.0, 13))
+    assert [e.kind for e in rep.elements] == ["helical_compression", "column"]
+    assert all(e.verified for e in rep.elements)
+    assert len(rep.chains) == 1 and rep.chains[0].force_dev_pct < THRESHOLD_PCT
+    assert rep.force_kernel_N == pytest.approx(evaluate_design(d, rep.x_mm).force_N[0])
+    frame = rep.to_frame()
+    assert "chain 1" in set(frame["element"])

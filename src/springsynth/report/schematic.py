@@ -179,7 +179,7 @@ def plot_schematic(design: Design, *, ax=None):
             ax.plot([_GX + 0.02, _SX - 0.02], [y - 0.5 * _ROW, y - 0.5 * _ROW], color="#eeeeee", lw=0.6, zorder=0)
         j += len(links)
     chains = any(hasattr(br, "links") for br in design.branches)
-    ax.set_title("arrangement (branches in parallel, chains in series)" if chains
+    ax.set_title("arrangement (chains in series)" if chains
                  else "arrangement (elements in parallel)", fontsize=9)
     if own:
         return ax.figure
