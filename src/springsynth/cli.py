@@ -137,7 +137,7 @@ def evaluate(
     d = load_design(design)
     _material_notices(d.materials.values())
     x, target, target_name = _stroke_points(at, to, points, "evaluate", design)
-    fatigue = fatigue_renderables(d, float(max(x)), f"{design} [duty]") if d.duty else []  # checked before output
+    fatigue = fatigue_renderables(d, float(max(x)), f"{design} [duty]") if d.duty else ""  # checked before output
     r = evaluate_design(d, x)
     frame = _evaluation_frame(d, r)
     tab = Table(title=escape(f"{d.name}: {d.topology()}"), title_justify="left")
@@ -170,7 +170,7 @@ def evaluate(
         r_plot = evaluate_design(d, x, at_snaps=True)       # the snap drawn as a vertical step
         save_figure(plot_design(d, r_plot, target=target, title=f"{d.name}: {_arrangement_words(d)}"), plot)
         out.print(f"wrote {plot}")
-    out.print(*fatigue, end="\n" if fatigue else "")
+    out.print(fatigue, end="\n" if fatigue else "", soft_wrap=False)
     _caution()
     _validity_messages(outside)
 

@@ -10,6 +10,7 @@ from __future__ import annotations
 from typing import Iterable
 
 from rich import box
+from rich.console import Group
 from rich.markup import escape
 from rich.padding import Padding
 from rich.table import Table
@@ -95,7 +96,7 @@ def pareto_table(frame, title: str, rows: int = 12) -> Table:
     return t
 
 
-def fatigue_renderables(design: Design, stroke_end_mm: float, where: str) -> list:
+def fatigue_renderables(design: Design, stroke_end_mm: float, where: str) -> Group:
     """A design's fatigue under its own [duty] (``stroke_max_mm`` defaults to ``stroke_end_mm``, the end
     of the evaluated stroke): a row per element place, then the verdict.
 
@@ -109,16 +110,22 @@ def fatigue_renderables(design: Design, stroke_end_mm: float, where: str) -> lis
     t = _plain_table(title=escape(f"fatigue: {cycles_text(duty.cycles)} cycles between strokes {duty.stroke_min_mm:g}"
                                   f" and {duty.stroke_max_mm:g} mm" + (", shot-peened" * duty.shot_peened)),
                      title_justify="left")
-    for c in ("element", "criterion", "mean", "alternating", "allowable", "ratio", "life [cycles]"):
-        t.add_column(c, justify="left" if c in ("element", "criterion") else "right", no_wrap=c != "criterion")
+    for c in ("element", "mean", "alternating", "allowable", "ratio", "life"):
+        t.add_column(c, justify="left" if c == "element" else "right", no_wrap=True)
     for p in rep.places:
-        f = (lambda v: f"{v:.4g} MPa") if p.unit == "MPa" else (lambda v: f"{100 * v:.3g} % strain")
-        t.add_row(f"e{p.element} {p.kind}" + (f" {p.place}" if p.place else ""), f"{p.basis} ({p.mode})",
-                  f(p.mean), f(p.alternating), f(p.allowable), f"{p.ratio:.3g}", cycles_text(p.life_cycles))
+        f = (lambda v: f"{v:.4g} MPa") if p.unit == "MPa" else (lambda v: f"{100 * v:.3g} %")
+        t.add_row(f"e{p.element}" + (f" {p.place}" if p.place else ""), f(p.mean), f(p.alternating), f(p.allowable),
+                  f"{p.ratio:.3g}", cycles_text(p.life_cycles))
+    kinds: dict[str, list[str]] = {}
+    for p in rep.places:
+        kinds.setdefault(f"e{p.element} {p.kind}", []).append(f"{p.place.replace('_', ' ') + ': ' if p.place else ''}"
+                                                              f"{p.basis} ({p.mode.replace('_', ' ')})")
+    crit = "criteria: " + "; ".join(f"{k} {', '.join(dict.fromkeys(v))}" for k, v in kinds.items())
     verdict = "survives" if rep.ratio <= 1.0 else "does NOT survive"
     zim = any(p.basis.startswith("Zimmerli") for p in rep.places)
-    return [t, note(f"fatigue ratio {rep.ratio:.3g} (1 / the Goodman factor of safety): {verdict} the duty"
-                    + ("; life –: Zimmerli's data are for unlimited life" if zim else ""))]
+    return Group(t, note(crit + "; allowable: the alternating strength at zero mean for the cycles asked"
+                         + ("; life –: Zimmerli's data are for unlimited life" if zim else "")),
+                 note(f"fatigue ratio {rep.ratio:.3g} (1 / the Goodman factor of safety): {verdict} the duty"))
 
 
 def verification_table(reports, threshold_pct: float) -> list:

@@ -89,7 +89,7 @@ class Synthesis:
     def binding(self, i: int) -> str:
         """Constraints a design violates, worst first, with the excess in %."""
         g = self.constraints[i]
-        parts = [(g[j], CONSTRAINTS[j]) for j in range(len(CONSTRAINTS)) if g[j] > 0]
+        parts = [(v, name) for v, name in zip(g, CONSTRAINTS) if v > 0]
         parts.sort(reverse=True)
         out = []
         for v, name in parts:
