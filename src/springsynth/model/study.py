@@ -78,6 +78,21 @@ class SearchOptions:
     #: objectives minimised: the base three, then any of the optional ones (``OBJECTIVES``)
     objectives: tuple[str, ...] = BASE_OBJECTIVES
 
+    def __setstate__(self, state: dict) -> None:
+        """Unpickle (a checkpoint), filling options added since it was written: a search from before
+        chains existed searched elements in parallel only (``max_chain = 1``)."""
+        state = dict(state)
+        state.setdefault("max_chain", 1)
+        for f in fields(self):
+            if f.name not in state and f.default is not MISSING:
+                state[f.name] = f.default
+        self.__dict__.update(state)
+
+    @property
+    def links_per_chain(self) -> int:
+        """Links a chain may have in this search: ``max_chain``, at most ``max_elements``."""
+        return max(1, min(self.max_chain, self.max_elements))
+
 
 @dataclass(frozen=True)
 class Duty:
@@ -134,21 +149,6 @@ class Duty:
             raise InputError(f"stroke_min_mm = {self.stroke_min_mm:g} must lie below stroke_max_mm = {hi:g}",
                              where=where)
         return replace(self, stroke_max_mm=float(hi))
-
-    def __setstate__(self, state: dict) -> None:
-        """Unpickle (a checkpoint), filling options added since it was written: a search from before
-        chains existed searched elements in parallel only (``max_chain = 1``)."""
-        state = dict(state)
-        state.setdefault("max_chain", 1)
-        for f in fields(self):
-            if f.name not in state and f.default is not MISSING:
-                state[f.name] = f.default
-        self.__dict__.update(state)
-
-    @property
-    def links_per_chain(self) -> int:
-        """Links a chain may have in this search: ``max_chain``, at most ``max_elements``."""
-        return max(1, min(self.max_chain, self.max_elements))
 
 
 @dataclass(frozen=True)
