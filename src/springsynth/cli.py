@@ -132,14 +132,14 @@ def evaluate(
     """Forward model of one design: force and stress ratio along the stroke."""
     from springsynth.assembly.evaluate import evaluate_design
     from springsynth.io.design_toml import load_design
-    from springsynth.report.terminal import fatigue_renderables
+    from springsynth.report.terminal import arrangement_words, evaluation_frame, fatigue_renderables
 
     d = load_design(design)
     _material_notices(d.materials.values())
     x, target, target_name = _stroke_points(at, to, points, "evaluate", design)
     fatigue = fatigue_renderables(d, float(max(x)), f"{design} [duty]") if d.duty else ""  # checked before output
     r = evaluate_design(d, x)
-    frame = _evaluation_frame(d, r)
+    frame = evaluation_frame(d, r)
     tab = Table(title=escape(f"{d.name}: {d.topology()}"), title_justify="left")
     for c in frame.columns:
         tab.add_column(c, justify="right")
@@ -168,43 +168,11 @@ def evaluate(
         from springsynth.report.plots import plot_design
 
         r_plot = evaluate_design(d, x, at_snaps=True)       # the snap drawn as a vertical step
-        save_figure(plot_design(d, r_plot, target=target, title=f"{d.name}: {_arrangement_words(d)}"), plot)
+        save_figure(plot_design(d, r_plot, target=target, title=f"{d.name}: {arrangement_words(d)}"), plot)
         out.print(f"wrote {plot}")
     out.print(fatigue, end="\n" if fatigue else "", soft_wrap=False)
     _caution()
     _validity_messages(outside)
-
-
-def _arrangement_words(d) -> str:
-    n, chains = len(d.parts), sum(1 for b in d.branches if hasattr(b, "links"))
-    if not chains:
-        return f"{n} element(s) in parallel"
-    return f"{n} elements in {len(d.branches)} parallel branch(es), {chains} a chain of links in series" if \
-        chains == 1 else f"{n} elements in {len(d.branches)} parallel branches, {chains} of them chains in series"
-
-
-def _evaluation_frame(d, r):
-    """Columns: stroke, force, stress ratio; each single element's force (``e<j>_<kind>_N``); each
-    chain's force (``chain<c>_N``) and its links' own strokes (``e<j>_<kind>_stroke_mm``)."""
-    import pandas as pd
-
-    from springsynth.assembly.evaluate import element_extra_outputs
-
-    cols = {"displacement_mm": r.x_mm, "force_N": r.force_N[0], "stress_ratio": r.stress_ratio_curve[0]}
-    j = chain_no = 0
-    for b in d.branches:
-        links = getattr(b, "links", None)
-        if links is None:
-            cols[f"e{j + 1}_{b.kind}_N"] = r.element_force_N[0, j]
-            j += 1
-            continue
-        chain_no += 1
-        cols[f"chain{chain_no}_N"] = r.element_force_N[0, j]
-        for e in links:
-            cols[f"e{j + 1}_{e.kind}_stroke_mm"] = r.element_stroke_mm[0, j]
-            j += 1
-    cols.update(element_extra_outputs(d, r.x_mm))     # e.g. a stage's parasitic travel
-    return pd.DataFrame(cols)
 
 
 # ------------------------------------------------------------------------- catalogues

@@ -22,7 +22,7 @@ from springsynth.elements import ElementKind
 from springsynth.model.materials import Material
 from springsynth.model.numbers import cycles_text, pct_text, size_text, table_number
 
-__all__ = ["kind_sections", "materials_table", "pareto_table", "verification_table", "note", "fatigue_renderables"]
+__all__ = ["kind_sections", "materials_table", "pareto_table", "verification_table", "note", "fatigue_renderables", "arrangement_words", "evaluation_frame"]
 
 #: short names of the material forms and laws in the materials table
 FORM_CODES = {"wire": "W", "strip": "S", "bulk": "B", "elastomer": "E"}
@@ -145,3 +145,36 @@ def verification_table(reports, threshold_pct: float) -> list:
             if r.kind and r.method:
                 methods.setdefault(r.kind, r.method)
     return [tab] + [note(f"{k}: {m}") for k, m in methods.items()]
+
+
+def arrangement_words(d) -> str:
+    """How a design's elements are arranged, in words (for figure titles)."""
+    n, chains = len(d.parts), sum(1 for b in d.branches if hasattr(b, "links"))
+    if not chains:
+        return f"{n} element(s) in parallel"
+    return f"{n} elements in {len(d.branches)} parallel branch(es), {chains} a chain of links in series" if \
+        chains == 1 else f"{n} elements in {len(d.branches)} parallel branches, {chains} of them chains in series"
+
+
+def evaluation_frame(d, r):
+    """Columns: stroke, force, stress ratio; each single element's force (``e<j>_<kind>_N``); each
+    chain's force (``chain<c>_N``) and its links' own strokes (``e<j>_<kind>_stroke_mm``)."""
+    import pandas as pd
+
+    from springsynth.assembly.evaluate import element_extra_outputs
+
+    cols = {"displacement_mm": r.x_mm, "force_N": r.force_N[0], "stress_ratio": r.stress_ratio_curve[0]}
+    j = chain_no = 0
+    for b in d.branches:
+        links = getattr(b, "links", None)
+        if links is None:
+            cols[f"e{j + 1}_{b.kind}_N"] = r.element_force_N[0, j]
+            j += 1
+            continue
+        chain_no += 1
+        cols[f"chain{chain_no}_N"] = r.element_force_N[0, j]
+        for e in links:
+            cols[f"e{j + 1}_{e.kind}_stroke_mm"] = r.element_stroke_mm[0, j]
+            j += 1
+    cols.update(element_extra_outputs(d, r.x_mm))     # e.g. a stage's parasitic travel
+    return pd.DataFrame(cols)
