@@ -38,6 +38,10 @@ def element_strokes(slots: Slots, x_mm: np.ndarray) -> np.ndarray:
     their chain's solution here.
     """
     x = np.asarray(x_mm, dtype=float)
+    if slots.has_chains:   # the links' deflections along their chains' loading paths
+        from springsynth.assembly.evaluate import evaluate_population
+
+        return evaluate_population(slots, x, x_max_mm=float(np.max(x)), detail=True).element_stroke_mm
     with np.errstate(invalid="ignore"):
         u = x[None, None, :] - slots.offset_mm[:, :, None]
     return np.maximum(u, 0.0)
