@@ -61,6 +61,7 @@ CASES = {
     "search.elements": ('["helical_compression"]', _kinds, ["helical_compression"], ()),
     "search.materials": ('["stainless_17_7ph"]', _materials, ["stainless_17_7ph"], ()),
     "search.max_elements": ("1", lambda st: st.search.max_elements, 1, ()),
+    "search.max_chain": ("1", lambda st: st.search.max_chain, 1, ()),
     "search.max_count": ("3", lambda st: st.search.max_count, 3, ()),
     "search.population": ("16", lambda st: st.search.population, 16, ()),
     "search.generations": ("7", lambda st: st.search.generations, 7, ()),
