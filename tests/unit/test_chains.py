@@ -215,3 +215,19 @@ def test_tolerance_of_a_chain_perturbs_the_chain_as_a_whole():
     assert "e2.thickness_mm" in q
     assert np.all(res.p05_N <= res.p95_N + 1e-12)
     assert res.nominal_N == pytest.approx(evaluate_design(d, x).force_N[0], rel=1e-9, abs=1e-12)
+
+
+def test_fatigue_judges_a_link_over_its_whole_range_through_a_snap():
+    """Through a snap the spring unloads: its largest stroke in a duty cycle lies inside the cycle, not at
+    its end, and the fatigue check must see it (the arch, driven on past the snap, deflects most at the end)."""
+    from springsynth.assembly.duty import _stroke_ranges, element_strokes
+
+    soft = Element("helical_compression", "music_wire", 1, 0.0,
+                   {"wire_diameter_mm": 0.8, "mean_diameter_mm": 6.0, "active_coils": 8, "free_length_mm": 30.0})
+    s = Slots.from_designs([make(Chain((soft, ARCH)))])
+    assert np.isfinite(evaluate_population(s, np.linspace(0.0, 4.0, 9)).snap_mm[0])
+    lo, hi = _stroke_ranges(s, 0.5, 4.0)
+    ends = element_strokes(s, np.array([0.5, 4.0]))[0]
+    assert hi[0, 0] > 1.3 * ends[0, 1]                 # the spring's peak, before the snap
+    assert hi[0, 1] == pytest.approx(ends[1, 1])        # the arch's at the end
+    assert lo[0] == pytest.approx(ends[:, 0])

@@ -47,6 +47,25 @@ def element_strokes(slots: Slots, x_mm: np.ndarray) -> np.ndarray:
     return np.maximum(u, 0.0)
 
 
+def _stroke_ranges(slots: Slots, lo_mm: float, hi_mm: float) -> tuple[np.ndarray, np.ndarray]:
+    """Each element's smallest and largest own stroke over a duty between ``lo_mm`` and ``hi_mm``, (n, S) each.
+
+    In parallel those are the strokes at the two ends; a chain link's can lie inside the
+    cycle (a link unloads when its chain snaps), so the chain's path is sampled at
+    ``_DUTY_POINTS`` strokes.
+    """
+    if not slots.has_chains:
+        u = element_strokes(slots, np.array([lo_mm, hi_mm], dtype=float))
+        return u[:, :, 0], u[:, :, 1]
+    u = element_strokes(slots, np.linspace(lo_mm, hi_mm, _DUTY_POINTS))
+    chained = slots.in_chain
+    return np.where(chained, u.min(axis=2), u[:, :, 0]), np.where(chained, u.max(axis=2), u[:, :, -1])
+
+
+#: strokes at which a chain's loading path is sampled over a duty cycle
+_DUTY_POINTS = 33
+
+
 @dataclass(frozen=True)
 class DutyGroup:
     """The rows of one kind in one slot, with the stress range of each place it checks.
@@ -85,7 +104,7 @@ def duty_loads(slots: Slots, stroke_min_mm: float, stroke_max_mm: float) -> list
     list of DutyGroup
         One per kind present in each slot (a handful); no loop over designs.
     """
-    u = element_strokes(slots, np.array([stroke_min_mm, stroke_max_mm], dtype=float))
+    u_lo, u_hi = _stroke_ranges(slots, stroke_min_mm, stroke_max_mm)
     mats_all = MaterialArrays.take(slots.materials, np.arange(len(slots.materials)))
     out = []
     for j, ki, rows in slots.groups():
@@ -94,6 +113,6 @@ def duty_loads(slots: Slots, stroke_min_mm: float, stroke_max_mm: float) -> list
         p = {q.name: pk[c] for c, q in enumerate(kind.params)}
         mat = mats_all.rows(slots.material[rows, j])               # fields gathered as the kind reads them
         with np.errstate(all="ignore"):
-            loads = kind.fatigue_loads(p, mat, u[rows, j, 0], u[rows, j, 1])
+            loads = kind.fatigue_loads(p, mat, u_lo[rows, j], u_hi[rows, j])
         out.append(DutyGroup(j, kind, rows, mat, loads))
     return out
