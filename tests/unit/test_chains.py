@@ -231,3 +231,14 @@ def test_fatigue_judges_a_link_over_its_whole_range_through_a_snap():
     assert hi[0, 0] > 1.3 * ends[0, 1]                 # the spring's peak, before the snap
     assert hi[0, 1] == pytest.approx(ends[1, 1])        # the arch's at the end
     assert lo[0] == pytest.approx(ends[:, 0])
+
+
+def test_two_chains_in_one_design_add():
+    """Branches act in parallel: a design of two chains and an element gives the sum of each alone."""
+    x = np.linspace(0.0, 6.0, 25)
+    a, b = Chain((COIL, COLUMN), 2, 0.3), Chain((COIL, ARCH), 1, -0.2)
+    both = evaluate_design(make(BLADE, a, b), x)
+    parts = [evaluate_design(make(br), x) for br in (BLADE, a, b)]
+    assert both.force_N[0] == pytest.approx(sum(r.force_N[0] for r in parts), rel=1e-12, abs=1e-12)
+    assert both.mass_g[0] == pytest.approx(sum(r.mass_g[0] for r in parts))
+    assert both.snap_mm[0] == parts[2].snap_mm[0] or np.isnan(parts[2].snap_mm[0])

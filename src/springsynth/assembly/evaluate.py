@@ -387,16 +387,20 @@ def _chain_heads(slots: Slots) -> tuple[np.ndarray, np.ndarray]:
 
 
 def _add_chains(ctx: _Context, tot: _Totals) -> None:
-    """Every chain, in groups of the same first slot and number of links, with or without a falling link."""
+    """Every chain, in groups of the same number of links, with or without a falling link, whatever
+    slot each starts in (a row's second chain, if any, in a group of its own)."""
     heads, length = _chain_heads(ctx.slots)
     falls = np.array([not k.monotonic_force for k in ctx.slots.kinds] + [False])[ctx.slots.kind]
-    for j in range(ctx.slots.n_slots):
-        for L in np.unique(length[heads[:, j], j]):
-            rows = heads[:, j] & (length[:, j] == L)
-            through = falls[:, j:j + L].any(axis=1)
-            for sel in (rows & ~through, rows & through):
+    nth = np.cumsum(heads, axis=1) - 1                  # 0 for a row's first chain, 1 for its second, ...
+    S = ctx.slots.n_slots
+    for o in range(int(nth[heads].max(initial=-1)) + 1):
+        for L in np.unique(length[heads & (nth == o)]):
+            rows, js = np.nonzero(heads & (nth == o) & (length == L))
+            span = np.minimum(js[:, None] + np.arange(L)[None, :], S - 1)
+            through = falls[rows[:, None], span].any(axis=1)
+            for sel in (~through, through):
                 if sel.any():
-                    _chain_group(ctx, tot, j, int(L), np.flatnonzero(sel))
+                    _chain_group(ctx, tot, js[sel], int(L), rows[sel])
 
 
 @dataclass(frozen=True)
@@ -412,19 +416,20 @@ class _Block:
     thick: list
 
 
-def _link_blocks(ctx: _Context, jj: int, rows: np.ndarray, sane: np.ndarray) -> list[_Block]:
-    """The link in slot ``jj`` of the chains in ``rows``, one block per kind present."""
+def _link_blocks(ctx: _Context, jj: np.ndarray, rows: np.ndarray, sane: np.ndarray) -> list[_Block]:
+    """The links in slots ``jj`` (one per row) of the chains in ``rows``, one block per kind present."""
     out = []
-    kinds_here = ctx.slots.kind[rows, jj]
+    sl = ctx.slots
+    kinds_here = sl.kind[rows, jj]
     for ki in np.unique(kinds_here):
         sel = np.flatnonzero(kinds_here == ki)
-        r = rows[sel]
-        kind = ctx.slots.kinds[ki]
-        cnt = ctx.count_t[jj][r]
+        r, j = rows[sel], jj[sel]
+        kind = sl.kinds[ki]
+        cnt = sl.count[r, j]
         s = sane[sel] & np.isfinite(cnt)
-        pk, s = ctx.in_domain(ki, ctx.params_t[jj][:len(kind.params), r], s)
+        pk, s = ctx.in_domain(ki, np.ascontiguousarray(sl.params[r, j, :len(kind.params)].T), s)
         p = {q.name: pk[c] for c, q in enumerate(kind.params)}
-        out.append(_Block(sel, kind, p, ctx.mats_all.rows(ctx.material_t[jj][r]), cnt, s, ctx.thick[ki]))
+        out.append(_Block(sel, kind, p, ctx.mats_all.rows(sl.material[r, j]), cnt, s, ctx.thick[ki]))
     return out
 
 
@@ -455,13 +460,14 @@ def _link_table(blocks: list[_Block], n: int, top_mm: np.ndarray, k_max: int, gr
     return u, F, falling, ok
 
 
-def _chain_group(ctx: _Context, tot: _Totals, j: int, L: int, rows: np.ndarray) -> None:
-    """Chains of ``L`` links starting in slot ``j`` (``rows``): tables, loading path, then the links' results."""
+def _chain_group(ctx: _Context, tot: _Totals, j: np.ndarray, L: int, rows: np.ndarray) -> None:
+    """Chains of ``L`` links in ``rows``, each starting in its slot ``j`` (per row): tables, loading path,
+    then the links' results."""
     x, x_max = ctx.x, ctx.x_max
     n = rows.size
     ccount = ctx.slots.chain_count[rows, j]
-    sane = ctx.slot_sane[j][rows] & np.isfinite(ccount)
-    off = np.where(sane, ctx.offset_t[j][rows], x_max)
+    sane = ctx.slot_sane[j, rows] & np.isfinite(ccount)
+    off = np.where(sane, ctx.slots.offset_mm[rows, j], x_max)
     top = np.maximum(max(x_max, float(np.max(x, initial=0.0))) - off, 0.0)
     serv = np.maximum(x_max - off, 0.0)
     blocks = [_link_blocks(ctx, j + k, rows, sane) for k in range(L)]
