@@ -261,8 +261,8 @@ def evaluate_population(slots: Slots, x_mm: np.ndarray, *, x_max_mm: float | Non
     -----
     Two steps, each looping over slots and kinds (a handful), never over designs: the
     branches of one element (:func:`_add_slot`, one vectorised kernel call per kind and
-    slot), then the chains (:func:`_add_chains`, grouped by first slot and length). Within
-    a slot the rows are taken in kind order (:meth:`Slots.slot_order`), so each kind
+    slot), then the chains (:func:`_add_chains`, grouped by length and by whether they
+    pass a falling link, whatever slot they start in). Within a slot the rows are taken in kind order (:meth:`Slots.slot_order`), so each kind
     writes its forces, peak stress ratios, boxes and masses into one contiguous block of
     the slot's arrays; one gather per slot brings them back to design order and combines
     them with the slots before, in slot order (the sums are the same, bit for bit, as
