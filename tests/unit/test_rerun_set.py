@@ -63,7 +63,6 @@ CASES = {
     "search.max_elements": ("1", lambda st: st.search.max_elements, 1, ()),
     "search.max_chain": ("1", lambda st: st.search.max_chain, 1, ()),
     "search.max_count": ("3", lambda st: st.search.max_count, 3, ()),
-    "search.max_chain": ("1", lambda st: st.search.max_chain, 1, ()),
     "search.population": ("16", lambda st: st.search.population, 16, ()),
     "search.generations": ("7", lambda st: st.search.generations, 7, ()),
     "search.seed": ("11", lambda st: st.search.seed, 11, ()),
