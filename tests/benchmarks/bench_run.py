@@ -13,13 +13,20 @@ subprocess (imports included, as a user sees it):
   a plain numpy cubic written with multiplications, ``x * (a + b * x * x)``, on an array of
   the same size (n x 3 x 64); and the cost of one call at 120 designs, what the search sees.
 
-Prints the ratios to the floor and to the cubic. Run:
-``python tests/benchmarks/bench_run.py [--repeats 3]``.
+Prints the ratios to the floor and to the cubic, in wall time (what a user waits) and in
+CPU time of the process and its children (steadier on a shared machine), with the load
+average before and after. ``--one-core`` runs every subprocess on one CPU (its affinity
+set to a single core), to see what the loop costs without the report's second worker.
+``--profile`` also prints the phases of the demo run from its run.json. Run:
+``python tests/benchmarks/bench_run.py [--repeats 3] [--one-core] [--profile]``.
 """
 
 from __future__ import annotations
 
 import argparse
+import json
+import os
+import resource
 import shutil
 import statistics
 import subprocess
@@ -40,31 +47,46 @@ minimize(get_problem("zdt1"), NSGA2(pop_size=120), ("n_gen", 80), seed=1, verbos
 """
 
 
-def _timed(cmd: list[str], cwd: Path) -> float:
-    t0 = time.perf_counter()
-    subprocess.run(cmd, cwd=cwd, check=True, stdout=subprocess.DEVNULL, stderr=subprocess.DEVNULL)
-    return time.perf_counter() - t0
+def _children_cpu() -> float:
+    ru = resource.getrusage(resource.RUSAGE_CHILDREN)
+    return ru.ru_utime + ru.ru_stime
+
+
+def _timed(cmd: list[str], cwd: Path, one_core: bool = False) -> tuple[float, float]:
+    """Wall and CPU seconds (the process and everything it started) of one command."""
+    pin = (lambda: os.sched_setaffinity(0, {min(os.sched_getaffinity(0))})) if one_core else None
+    c0, t0 = _children_cpu(), time.perf_counter()
+    subprocess.run(cmd, cwd=cwd, check=True, stdout=subprocess.DEVNULL, stderr=subprocess.DEVNULL, preexec_fn=pin)
+    return time.perf_counter() - t0, _children_cpu() - c0
 
 
 def _cli() -> list[str]:
     return [sys.executable, "-m", "springsynth.cli"]
 
 
-def loop_figures(repeats: int) -> dict[str, float]:
+def loop_figures(repeats: int, one_core: bool = False) -> dict:
     work = Path(tempfile.mkdtemp(prefix="bench-run-"))
-    floor, demo, report = [], [], []
-    size = 0
+    got: dict[str, list] = {"floor": [], "demo": [], "report": []}
+    size, phases = 0, {}
     try:
         for r in range(repeats):
-            floor.append(_timed([sys.executable, "-c", FLOOR], work))
+            got["floor"].append(_timed([sys.executable, "-c", FLOOR], work, one_core))
             out = work / f"run{r}"
-            demo.append(_timed(_cli() + ["run", str(STUDY), "--out", str(out)], work))
-            report.append(_timed(_cli() + ["report", str(out)], work))
+            got["demo"].append(_timed(_cli() + ["run", str(STUDY), "--out", str(out)], work, one_core))
+            got["report"].append(_timed(_cli() + ["report", str(out)], work, one_core))
             size = (out / "report.html").stat().st_size
+            phases = json.loads((out / "run.json").read_text())["timings_s"]
     finally:
         shutil.rmtree(work, ignore_errors=True)
-    return {"floor_s": statistics.median(floor), "demo_s": statistics.median(demo),
-            "report_s": statistics.median(report), "report_html_MB": size / 1e6}
+    out = {"report_html_MB": size / 1e6, "phases": phases}
+    for k, v in got.items():
+        out[f"{k}_s"] = statistics.median(w for w, _ in v)
+        out[f"{k}_cpu_s"] = statistics.median(c for _, c in v)
+        out[f"{k}_all"] = v
+    for k in ("demo", "report"):   # ratios of the same repeat, then their median
+        out[f"{k}_ratio"] = statistics.median(a[0] / f[0] for a, f in zip(got[k], got["floor"]))
+        out[f"{k}_cpu_ratio"] = statistics.median(a[1] / f[1] for a, f in zip(got[k], got["floor"]))
+    return out
 
 
 def core_figures(repeats: int, n: int = 20000) -> dict[str, float]:
@@ -99,18 +121,28 @@ def main() -> None:
     ap = argparse.ArgumentParser()
     ap.add_argument("--repeats", type=int, default=3)
     ap.add_argument("--skip-loop", action="store_true", help="only the core figures")
+    ap.add_argument("--one-core", action="store_true", help="run the subprocesses on one CPU")
+    ap.add_argument("--profile", action="store_true", help="print the demo run's phases")
     a = ap.parse_args()
+    print(f"load average before: {' '.join(f'{v:.1f}' for v in os.getloadavg())} on {os.cpu_count()} CPUs")
     core = core_figures(max(a.repeats, 5))
     print(f"core: 20,000 designs {core['core_s'] * 1e3:.1f} ms, plain cubic x*(a+b*x*x) "
           f"{core['cubic_s'] * 1e3:.1f} ms, ratio {core['core_over_cubic']:.1f} (goal <= 4); "
           f"one call at 120 designs {core['call_120_ms']:.2f} ms")
-    if a.skip_loop:
-        return
-    f = loop_figures(a.repeats)
-    print(f"floor (pymoo NSGA-II 120 x 80 on ZDT1, own process): {f['floor_s']:.2f} s")
-    print(f"demo run incl. figures and report: {f['demo_s']:.2f} s = {f['demo_s'] / f['floor_s']:.1f} x floor (goal <= 4)")
-    print(f"report rebuild: {f['report_s']:.2f} s = {f['report_s'] / f['floor_s']:.1f} x floor (goal <= 2)")
-    print(f"report.html: {f['report_html_MB']:.2f} MB (goal <= 1.5)")
+    if not a.skip_loop:
+        f = loop_figures(a.repeats, a.one_core)
+        print(f"floor (pymoo NSGA-II 120 x 80 on ZDT1, own process): {f['floor_s']:.2f} s wall, {f['floor_cpu_s']:.2f} s CPU"
+              + (" (one core)" if a.one_core else ""))
+        for k, goal in (("demo", 4), ("report", 2)):
+            what = "demo run incl. figures and report" if k == "demo" else "report rebuild"
+            print(f"{what}: {f[k + '_s']:.2f} s wall = {f[k + '_ratio']:.1f} x floor (goal <= {goal}); "
+                  f"{f[k + '_cpu_s']:.2f} s CPU = {f[k + '_cpu_ratio']:.1f} x floor's CPU")
+        print(f"report.html: {f['report_html_MB']:.2f} MB (goal <= 1.5)")
+        print("each repeat (wall s, CPU s): " + "; ".join(
+            f"{k} " + ", ".join(f"({w:.1f}, {c:.1f})" for w, c in f[k + "_all"]) for k in ("floor", "demo", "report")))
+        if a.profile:
+            print("demo phases (run.json, wall s): " + ", ".join(f"{k} {v:.2f}" for k, v in f["phases"].items()))
+    print(f"load average after: {' '.join(f'{v:.1f}' for v in os.getloadavg())}")
 
 
 if __name__ == "__main__":

@@ -225,3 +225,78 @@ def test_pareto_plot_is_pure_and_labels_the_knee_and_extremes(tmp_path, monkeypa
     assert any(ax.get_yscale() == "log" or ax.get_xscale() == "log" for ax in fig.axes)  # size spans decades
     plt.close(fig)
     assert calls == [] and list(tmp_path.iterdir()) == []
+
+
+def _report_input(folder):
+    from springsynth.report.html import ReportInput
+
+    run = read_run(folder)
+    return ReportInput(run.path, run.meta, run.table, run.designs, run.study(), {})
+
+
+@pytest.mark.slow
+def test_figures_drawn_in_worker_processes_are_the_bytes_drawn_here(run_dir):
+    from springsynth.report.html import render_report
+
+    inp = _report_input(run_dir)
+    here, pooled = render_report(inp, workers=1), render_report(inp, workers=2)
+    assert here.figures == pooled.figures and here.design_figures == pooled.design_figures
+    assert here.html == pooled.html
+    assert set(here.design_figures) == {d.name for d in inp.designs}
+
+
+def test_a_canvas_drawn_again_shows_only_the_new_design(run_dir):
+    # one canvas draws every design of a report, its frame kept as pixels and only the design's
+    # layer drawn over them: each picture must be exactly the full drawing of a new figure
+    from springsynth.assembly.evaluate import evaluate_design
+    from springsynth.model.study import curve_grid
+    from springsynth.report.design_figure import DesignCanvas, plot_design
+    from springsynth.report.style import render_png
+
+    inp = _report_input(run_dir)
+    x, target = curve_grid(inp.study), inp.study.target
+    canvases: dict[int, DesignCanvas] = {}
+    designs = list(inp.designs) + list(inp.designs[:1])   # the first again, after the others
+    for k, d in enumerate(designs):
+        r = evaluate_design(d, x, x_max_mm=target.stroke_mm)
+        title = f"{d.name} ({k})"
+        if len(d.branches) not in canvases:
+            canvases[len(d.branches)] = DesignCanvas(len(d.branches))
+        canvas = canvases[len(d.branches)]
+        canvas.draw(d, r, target=target, stress_limit=0.8 - 0.2 * (k % 2), title=title)   # frames of two limits
+        fresh = plot_design(d, r, target=target, stress_limit=0.8 - 0.2 * (k % 2), title=title)
+        assert canvas.png() == render_png(fresh, dpi=100, tight=False), d.name
+
+
+def test_palette_png_keeps_the_picture_and_the_background_exact():
+    # a drawn figure with far more than 256 colours (eight overlapping translucent bands and
+    # lines) reduced to a palette: nearly every pixel within a few levels of the original,
+    # the rest antialiased edge pixels (a reader sees neither), the white background exact
+    import io
+
+    from matplotlib.backends.backend_agg import FigureCanvasAgg
+    from matplotlib.figure import Figure
+    from PIL import Image
+
+    from springsynth.report.style import PALETTE, palette_png
+
+    fig = Figure(figsize=(4, 3), dpi=100)
+    FigureCanvasAgg(fig)
+    ax = fig.add_subplot()
+    xs = np.linspace(0, 6, 50)
+    for j, c in enumerate(PALETTE):
+        ax.plot(xs, np.sin(xs + j), color=c, lw=1.5)
+        ax.fill_between(xs, j * 0.1, j * 0.1 + 0.05, color=c, alpha=0.5)
+    ax.set_title("palette check")
+    fig.canvas.draw()
+    rgba = np.asarray(fig.canvas.buffer_rgba()).copy()
+    png = palette_png(rgba)
+    back = np.asarray(Image.open(io.BytesIO(png)).convert("RGB")).astype(int)
+    diff = np.abs(back - rgba[..., :3].astype(int)).max(axis=2)
+    assert back.shape == rgba[..., :3].shape
+    assert len(np.unique(rgba.reshape(-1, 4), axis=0)) > 1000
+    assert np.mean(diff > 16) < 0.005 and diff.max() <= 48 and diff.mean() < 2.0
+    white = np.all(rgba[..., :3] == 255, axis=2)
+    assert np.all(back[white] == 255)
+    assert Image.open(io.BytesIO(png)).mode == "P"
+    assert png == palette_png(rgba)  # deterministic

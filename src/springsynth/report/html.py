@@ -35,7 +35,7 @@ from springsynth.elements import get_kind, margin_text, split_margins
 from springsynth.model.numbers import cycles_text, pct_text, size_text, thousands
 from springsynth.model.safety import CAUTION
 from springsynth.model.study import Study
-from springsynth.report.fatigue import FatigueView, fatigue_card, fatigue_views, plot_pareto_fatigue
+from springsynth.report.fatigue import FatigueView, fatigue_card, fatigue_views
 from springsynth.report.maker import MakerView, maker_section, maker_views
 
 __all__ = ["render_report", "RenderedReport", "ReportInput", "REPORT", "BASE_COLUMNS", "extra_columns"]
@@ -88,43 +88,23 @@ def extra_columns(table: pd.DataFrame) -> list[str]:
 # ------------------------------------------------------------------------- figures
 
 
-def _figures(run: ReportInput) -> tuple[dict[str, bytes], dict[str, bytes], dict[str, Response], dict[str, list[str]]]:
-    """All figures as PNG bytes (run-level, per design), the responses and each design's roles."""
+def _figures(run: ReportInput, workers: int):
+    """All figures as PNG bytes (run-level, per design), the responses, each design's roles and
+    the maker's and fatigue views, drawn as jobs by :func:`springsynth.report.figures.run_jobs`."""
     from springsynth.model.study import curve_grid
-    from springsynth.report import plots as P
+    from springsynth.report import figures as FG
+    from springsynth.report.plots import representatives
 
     st = run.study
     ids = [d.name for d in run.designs]
     F = _objectives(run.table)
     feas = _feasible(run.table)
     limit = st.limits.stress_ratio
-    figs: dict[str, bytes] = {}
-    per_design: dict[str, bytes] = {}
-    responses: dict[str, Response] = {}
-    roles: dict[str, list[str]] = {}
     x = curve_grid(st)
     stroke = st.target.stroke_mm
-    for d in run.designs:
-        responses[d.name] = evaluate_design(d, x, x_max_mm=stroke)
-    if ids:
-        reps = P.representatives(ids, F, feas)
-        for role in _ROLE_ORDER:
-            roles.setdefault(ids[reps[role]], []).append(role)
-        figs["pareto.png"] = P.png_bytes(P.plot_pareto(ids, F, feas, stress_limit=limit))
-        if st.duty is not None and "fatigue_ratio" in run.table:
-            figs["pareto_fatigue.png"] = P.png_bytes(plot_pareto_fatigue(
-                ids, F, pd.to_numeric(run.table["fatigue_ratio"], errors="coerce").to_numpy(float), feas,
-                limit=st.limits.fatigue_ratio))
-        curves, errors = {}, {}
-        for name, rs in roles.items():
-            label = f"{name} ({', '.join(rs)})"
-            curves[label] = responses[name].force_N[0]
-            errors[label] = float(F[ids.index(name), 0])
-        figs["curves.png"] = P.png_bytes(P.plot_curves(st.target, x, curves, errors))
-    history = run.meta.get("history") or []
-    if history:
-        figs["convergence.png"] = P.png_bytes(P.plot_convergence(history, polish=run.meta.get("polish"),
-                                                                 max_error_pct=st.limits.max_error_pct))
+    responses = {d.name: evaluate_design(d, x, x_max_mm=stroke) for d in run.designs}
+    roles: dict[str, list[str]] = {}
+    items = []
     for i, d in enumerate(run.designs):
         r = responses[d.name]
         if r.snap_mm is not None and np.isfinite(r.snap_mm[0]):     # the snap drawn as a vertical step
@@ -132,9 +112,32 @@ def _figures(run: ReportInput) -> tuple[dict[str, bytes], dict[str, bytes], dict
         state = "feasible" if feas[i] else "INFEASIBLE"
         title = (f"{d.name} ({state}): curve error {pct_text(F[i, 0])}, stress ratio {F[i, 1]:.3g}, "
                  f"size {size_text(F[i, 2])} mm³")
-        per_design[d.name] = P.png_bytes(P.plot_design(d, r, target=st.target, stress_limit=limit, title=title),
-                                         dpi=100, tight=False)
-    return figs, per_design, responses, roles
+        items.append((d, r, title, None))
+    jobs = FG.design_jobs(items, st.target, limit)      # the largest job first
+    if ids:
+        reps = representatives(ids, F, feas)
+        for role in _ROLE_ORDER:
+            roles.setdefault(ids[reps[role]], []).append(role)
+        jobs.append(("pareto.png", FG.pareto_png, (ids, F, feas, limit), {}))
+        if st.duty is not None and "fatigue_ratio" in run.table:
+            fat = pd.to_numeric(run.table["fatigue_ratio"], errors="coerce").to_numpy(float)
+            jobs.append(("pareto_fatigue.png", FG.pareto_fatigue_png, (ids, F, fat, feas, st.limits.fatigue_ratio), {}))
+    jobs.append(("maker", maker_views, (run.designs, run.table, st), {}))
+    jobs.append(("fatigue", fatigue_views, (run.designs, st), {}))
+    history = run.meta.get("history") or []
+    if history:
+        jobs.append(("convergence.png", FG.convergence_png, (history, run.meta.get("polish"), st.limits.max_error_pct),
+                     {}))
+    if ids:
+        curves, errors = {}, {}
+        for name, rs in roles.items():
+            label = f"{name} ({', '.join(rs)})"
+            curves[label] = responses[name].force_N[0]
+            errors[label] = float(F[ids.index(name), 0])
+        jobs.append(("curves.png", FG.curves_png, (st.target, x, curves, errors), {}))
+    done = FG.run_jobs(jobs, workers=workers)
+    figs = {k: done[k] for k in ("pareto.png", "pareto_fatigue.png", "curves.png", "convergence.png") if k in done}
+    return figs, done.get("designs", {}), responses, roles, done["maker"], done["fatigue"]
 
 
 # ------------------------------------------------------------------------- HTML pieces
@@ -540,14 +543,18 @@ class RenderedReport:
     html: str
 
 
-def render_report(run: ReportInput) -> RenderedReport:
+def render_report(run: ReportInput, *, workers: int | None = None) -> RenderedReport:
     """Every figure and the self-contained HTML page of a run (nothing is written here).
 
     Nothing is searched again: the designs are re-evaluated with the same analytic
-    models the search used.
+    models the search used. ``workers``: processes drawing the figures (default
+    :func:`springsynth.report.figures.default_workers`, 1 for a handful of designs); the
+    result is the same for any number.
     """
-    figs, per_design, responses, roles = _figures(run)
-    makers = maker_views(run.designs, run.table, run.study)
-    fatigue = fatigue_views(run.designs, run.study)
+    from springsynth.report.figures import MIN_DESIGNS_FOR_WORKERS, default_workers
+
+    if workers is None:
+        workers = default_workers() if len(run.designs) >= MIN_DESIGNS_FOR_WORKERS else 1
+    figs, per_design, responses, roles, makers, fatigue = _figures(run, workers)
     per_design = {**per_design, **{f"{name}.fatigue": v.png for name, v in fatigue.items()}}
     return RenderedReport(figs, per_design, _html(run, figs, per_design, responses, roles, makers, fatigue))

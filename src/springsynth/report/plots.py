@@ -14,17 +14,14 @@ import matplotlib
 matplotlib.use("Agg")
 import matplotlib.pyplot as plt  # noqa: E402
 import numpy as np  # noqa: E402
+from matplotlib.transforms import Bbox  # noqa: E402
 
-from springsynth.assembly.design import Design
-from springsynth.assembly.evaluate import Response
 from springsynth.checks.tolerance import ToleranceResult
 from springsynth.model.numbers import pct_text, thousands  # noqa: E402
 from springsynth.model.target import Target
-from springsynth.report.schematic import TINY_OFFSET_MM as _TINY_OFFSET_MM
+from springsynth.report.design_figure import DesignCanvas, force_limits, plot_design, plot_target
 from springsynth.report.schematic import plot_schematic
 from springsynth.report.style import (
-    BAND,
-    BAND_EDGE,
     DASHES,
     FEASIBLE,
     HIGHLIGHT,
@@ -35,22 +32,12 @@ from springsynth.report.style import (
     PALETTE,
     STYLE,
     png_bytes,
+    render_png,
     styled,
 )
 
 __all__ = ["PALETTE", "STYLE", "plot_design", "plot_pareto", "plot_curves", "plot_convergence", "plot_schematic",
-           "knee_index", "representatives", "png_bytes", "plot_tolerance"]
-
-
-
-
-
-def _offset_words(offset_mm: float) -> str:
-    if offset_mm > _TINY_OFFSET_MM:
-        return f"gap {offset_mm:.2g} mm"
-    if offset_mm < -_TINY_OFFSET_MM:
-        return f"preload {-offset_mm:.2g} mm"
-    return ""
+           "plot_target", "knee_index", "representatives", "png_bytes", "render_png", "plot_tolerance", "DesignCanvas"]
 
 
 def _thousands_fmt(v, _pos=None) -> str:
@@ -74,26 +61,6 @@ def _wants_log(v: np.ndarray, decades: float = 1.3) -> bool:
     v = np.asarray(v, float)
     v = v[np.isfinite(v)]
     return v.size > 1 and bool(np.all(v > 0)) and math.log10(v.max() / v.min()) > decades
-
-
-# ------------------------------------------------------------------------- target
-
-
-def plot_target(target: Target, ax, *, over: bool = False):
-    """Target points and, when given, its acceptance band into ``ax``; returns ``ax``.
-
-    ``over=True`` draws the band as a hatched outline above filled areas (stacked
-    element forces) instead of a flat fill beneath the curves.
-    """
-    if target.has_band:
-        if over:
-            ax.fill_between(target.x_mm, target.force_lo_N, target.force_hi_N, facecolor="none", edgecolor=BAND_EDGE,
-                            hatch="////", lw=0.9, label="target band", zorder=4)
-        else:
-            ax.fill_between(target.x_mm, target.force_lo_N, target.force_hi_N, color=BAND, lw=0, label="target band",
-                            zorder=1)
-    ax.plot(target.x_mm, target.force_N, "o", ms=3.5, mfc="white", mec=INK, mew=0.9, label="target", zorder=6)
-    return ax
 
 
 # ------------------------------------------------------------------------- choosing designs
@@ -145,33 +112,45 @@ def roles_by_row(reps: Mapping[str, int]) -> dict[int, list[str]]:
 # ------------------------------------------------------------------------- label placement
 
 
+def _label_box(x0: float, y0: float, w: float, h: float, off_px: tuple[float, float], dx: int, dy: int) -> Bbox:
+    """Window box of a ``w`` x ``h`` label offset by ``off_px`` from the point (x0, y0), aligned
+    away from it (left/right/centre by ``dx``, bottom/top/centre by ``dy``), slightly enlarged."""
+    left = x0 + off_px[0] - (0.0 if dx > 0 else w if dx < 0 else w / 2)
+    bottom = y0 + off_px[1] - (0.0 if dy > 0 else h if dy < 0 else h / 2)
+    return Bbox.from_bounds(left, bottom, w, h).expanded(1.04, 1.1)
+
+
 def _place_labels(ax, items, obstacles_xy: np.ndarray, *, hlines: Sequence[float] = (), fontsize: float = 7.5):
     """Annotate points without labels colliding with each other, the markers or the frame.
 
     ``items``: list of (x, y, text). ``obstacles_xy``: data points, shape (k, 2). Tries
     offsets around each point at growing distances and keeps the first free spot (with a
-    leader line when it had to move away); the least-crowded spot when none is free.
+    leader line when it had to move away); the least-crowded spot when none is free. Each
+    label is measured once; the candidate spots are boxes of that size (no trial drawing).
     """
     fig = ax.figure
     renderer = fig.canvas.get_renderer()
+    ax.get_xlim(), ax.get_ylim()    # settle pending autoscaling before reading the transform
     pts = ax.transData.transform(obstacles_xy) if len(obstacles_xy) else np.zeros((0, 2))
     pts = pts[np.all(np.isfinite(pts), axis=1)]
     frame = ax.get_window_extent(renderer)
     line_px = [ax.transData.transform((ax.get_xlim()[0], h))[1] for h in hlines if h is not None and np.isfinite(h)]
     placed = []
-    r_px = 5.0 * fig.dpi / 72.0
+    px_per_pt = fig.dpi / 72.0
+    r_px = 5.0 * px_per_pt
     dirs = [(1, 1), (1, -1), (-1, 1), (-1, -1), (1, 0), (-1, 0), (0, 1), (0, -1)]
+    style = dict(fontsize=fontsize, color=INK, zorder=8, bbox=dict(boxstyle="round,pad=0.15", fc="white", ec="none",
+                                                                     alpha=0.85))
     for x, y, text in items:
+        probe = ax.text(x, y, text, **style)
+        ext = probe.get_window_extent(renderer)
+        probe.remove()
+        x0, y0 = ax.transData.transform((x, y))
         best = None
         for radius in (6, 16, 28, 42):
             for dx, dy in dirs:
                 off = (dx * radius, dy * radius * 0.8)
-                ha = "left" if dx > 0 else "right" if dx < 0 else "center"
-                va = "bottom" if dy > 0 else "top" if dy < 0 else "center"
-                a = ax.annotate(text, (x, y), xytext=off, textcoords="offset points", ha=ha, va=va,
-                                fontsize=fontsize, color=INK, zorder=8,
-                                bbox=dict(boxstyle="round,pad=0.15", fc="white", ec="none", alpha=0.85))
-                bb = a.get_window_extent(renderer).expanded(1.04, 1.1)
+                bb = _label_box(x0, y0, ext.width, ext.height, (off[0] * px_per_pt, off[1] * px_per_pt), dx, dy)
                 score = 0.0
                 if not (frame.x0 <= bb.x0 and bb.x1 <= frame.x1 and frame.y0 <= bb.y0 and bb.y1 <= frame.y1):
                     score += 100.0
@@ -183,21 +162,15 @@ def _place_labels(ax, items, obstacles_xy: np.ndarray, *, hlines: Sequence[float
                     score += float(inside.sum())
                 score += radius / 100.0
                 if best is None or score < best[0]:
-                    if best is not None:
-                        best[1].remove()
-                    best = (score, a, bb, radius)
-                else:
-                    a.remove()
+                    best = (score, off, dx, dy, bb, radius)
             if best[0] < 1.0:
                 break
-        _, a, bb, radius = best
-        if radius > 6:
-            a.arrow_patch = None
-            a.remove()
-            a = ax.annotate(a.get_text(), (x, y), xytext=a.xyann, textcoords="offset points", ha=a.get_ha(),
-                            va=a.get_va(), fontsize=fontsize, color=INK, zorder=8,
-                            bbox=dict(boxstyle="round,pad=0.15", fc="white", ec="none", alpha=0.85),
-                            arrowprops=dict(arrowstyle="-", color=MUTED, lw=0.6, shrinkA=0, shrinkB=4))
+        _, off, dx, dy, bb, radius = best
+        arrow = (dict(arrowprops=dict(arrowstyle="-", color=MUTED, lw=0.6, shrinkA=0, shrinkB=4)) if radius > 6
+                 else {})
+        ax.annotate(text, (x, y), xytext=off, textcoords="offset points",
+                    ha="left" if dx > 0 else "right" if dx < 0 else "center",
+                    va="bottom" if dy > 0 else "top" if dy < 0 else "center", **style, **arrow)
         placed.append(bb)
 
 
@@ -275,7 +248,6 @@ def plot_pareto(ids: Sequence[str], F: np.ndarray, feasible: np.ndarray, *, stre
     if handles:
         fig.legend(list(handles.values()), list(handles), loc="lower center", ncol=len(handles), fontsize=8.5,
                    bbox_to_anchor=(0.5, 0.0))
-    fig.canvas.draw()
     for ax, (a, b) in zip(axes, pairs):
         items = [(F[i, a], F[i, b], f"{ids[i]} {', '.join(r)}") for i, r in roles.items()
                  if np.isfinite(F[i, a]) and np.isfinite(F[i, b])]
@@ -285,23 +257,6 @@ def plot_pareto(ids: Sequence[str], F: np.ndarray, feasible: np.ndarray, *, stre
 
 
 # ------------------------------------------------------------------------- curves
-
-
-def _force_limits(target: Target, curves: Sequence[np.ndarray]) -> tuple[float, float, bool]:
-    """y-limits that keep the target readable: curves may not stretch it by more than 2.5x."""
-    lo_t = float(np.min(target.force_lo_N if target.has_band else target.force_N))
-    hi_t = float(np.max(target.force_hi_N if target.has_band else target.force_N))
-    lo_t, hi_t = min(lo_t, 0.0), max(hi_t, 0.0)
-    span = max(hi_t - lo_t, 1e-9)
-    vals = np.concatenate([np.asarray(c, float).ravel() for c in curves]) if len(curves) else np.zeros(1)
-    vals = vals[np.isfinite(vals)] if vals.size else vals
-    lo = float(min(lo_t, vals.min())) if vals.size else lo_t
-    hi = float(max(hi_t, vals.max())) if vals.size else hi_t
-    cap_lo, cap_hi = lo_t - 1.5 * span, hi_t + 1.5 * span
-    clipped = lo < cap_lo or hi > cap_hi
-    lo, hi = max(lo, cap_lo), min(hi, cap_hi)
-    pad = 0.06 * (hi - lo)
-    return lo - pad, hi + pad, clipped
 
 
 @styled
@@ -329,7 +284,7 @@ def plot_curves(target: Target, x: np.ndarray, curves: Mapping[str, np.ndarray],
         ax.plot(x, f, lw=1.9, color=PALETTE[j % len(PALETTE)], ls=DASHES[j % len(DASHES)], zorder=4,
                 label=f"{label}: error {pct_text(errors[label])}")
     ax.axhline(0, color="#888888", lw=0.8, zorder=2)
-    lo, hi, clipped = _force_limits(target, list(curves.values()))
+    lo, hi, clipped = force_limits(target, list(curves.values()))
     ax.set_ylim(lo, hi)
     ax.set_xlim(0, float(max(np.max(x), target.x_mm.max())) * 1.02)
     ax.set_xlabel("displacement x [mm]")
@@ -414,160 +369,6 @@ def plot_convergence(history: Sequence[Mapping], *, polish: Mapping | None = Non
     fig.align_ylabels()
     fig.tight_layout()
     return fig
-
-
-# ------------------------------------------------------------------------- schematic
-
-
-
-
-
-# ------------------------------------------------------------------------- one design
-
-
-@styled
-def plot_design(design: Design, resp: Response, *, target: Target | None = None, stress_limit: float | None = None,
-                title: str | None = None, element_stress: np.ndarray | None = None, schematic: bool = True):
-    """Force with each element's contribution stacked, the stress ratio along the stroke
-    and (``schematic=True``) a sketch of the arrangement.
-
-    Parameters
-    ----------
-    design : Design
-    resp : Response
-        From :func:`~springsynth.assembly.evaluate.evaluate_design` (needs ``element_force_N``
-        and ``stress_ratio_curve``).
-    target : Target, optional
-        Overlaid with its band.
-    stress_limit : float, optional
-        ``limits.stress_ratio``.
-    element_stress : ndarray, shape (S, m), optional
-        Each element's own stress ratio along the stroke (thin lines).
-
-    Notes
-    -----
-    Positive contributions stack upward from zero and negative ones (a snap-through
-    element past its peak) downward, so every band keeps its true size; the total is
-    the black line.
-    """
-    fig, ax, ax2, lax = _design_axes(design, schematic)
-    x = resp.x_mm
-    pos, neg = _branch_bands(ax, design, resp)
-    if target is not None:
-        plot_target(target, ax, over=True)
-    ax.plot(x, resp.force_N[0], color=INK, lw=2.0, label="total force", zorder=5)
-    ax.axhline(0, color="#888888", lw=0.8, zorder=3)
-    _mark_snap(ax, resp)
-    if target is not None:
-        lo, hi, _ = _force_limits(target, [resp.force_N[0], pos, neg])
-        ax.set_ylim(lo, hi)
-    ax.set_ylabel("force F [N]")
-    ax.tick_params(labelbottom=False)
-    ax.set_title(title or f"{design.name}: force along the stroke", loc="left")
-    if element_stress is None and resp.element_stress_ratio is not None:     # each element at its own stroke
-        element_stress = resp.element_stress_ratio[0]
-    _stress_panel(ax2, design, x, resp.stress_ratio_curve[0], element_stress, stress_limit)
-    _design_legends(ax, ax2, lax)
-    ax.set_xlim(0, float(np.max(x)) * 1.01 if x.size else 1)
-    fig.align_ylabels([ax, ax2])
-    return fig
-
-
-def _design_axes(design: Design, schematic: bool):
-    """Figure and axes of :func:`plot_design`: ``(fig, force axes, stress axes, legend axes or None)``.
-
-    With the schematic: the force and stress panels on the left, the sketch at the top
-    right and one legend axes below it (never over the data); without: the two panels.
-    """
-    if not schematic:
-        fig, (ax, ax2) = plt.subplots(2, 1, figsize=(7.6, 6.4), sharex=True, height_ratios=[2.2, 1],
-                                      gridspec_kw=dict(hspace=0.08, left=0.11, right=0.98, top=0.93, bottom=0.085))
-        return fig, ax, ax2, None
-    extra = max(len(design.branches) - 2, 0)
-    fig = plt.figure(figsize=(11.5, 6.6 + 0.5 * extra))
-    gs = fig.add_gridspec(2, 2, width_ratios=[2.1, 1.0], height_ratios=[2.1 + 0.1 * extra, 1.0 + 0.25 * extra],
-                          wspace=0.05, hspace=0.08, left=0.07, right=0.995, top=0.93, bottom=0.08)
-    ax = fig.add_subplot(gs[0, 0])
-    ax2 = fig.add_subplot(gs[1, 0], sharex=ax)
-    plot_schematic(design, ax=fig.add_subplot(gs[0, 1]))
-    lax = fig.add_subplot(gs[1, 1])
-    lax.axis("off")
-    return fig, ax, ax2, lax
-
-
-def _stress_panel(ax2, design: Design, x: np.ndarray, ratio: np.ndarray, element_stress, stress_limit) -> None:
-    """The worst element's stress ratio ``ratio`` (shape (m,)), each element's own
-    (``element_stress``, (S, m), with more than one element) and the limit, shaded beyond."""
-    if element_stress is not None and len(design.parts) > 1:
-        for j in range(min(len(design.parts), len(element_stress))):
-            ax2.plot(x, element_stress[j], color=PALETTE[j % len(PALETTE)], lw=1.0, ls=DASHES[(j + 1) % len(DASHES)],
-                     label=f"e{j + 1}")
-    ax2.plot(x, ratio, color=INK, lw=1.8, label="stress / allowable, worst element")
-    top = float(np.nanmax(ratio)) if np.any(np.isfinite(ratio)) else 1.0
-    if stress_limit is not None:
-        ax2.axhline(stress_limit, color=LIMIT, ls="--", lw=1.1, label=f"limit {stress_limit:g}")
-        ax2.axhspan(stress_limit, max(top, stress_limit) * 1.2 + 0.05, color=LIMIT, alpha=0.07, lw=0)
-        top = max(top, stress_limit)
-    ax2.set_ylim(0, top * 1.15 + 1e-9)
-    ax2.set_xlabel("displacement x [mm]")
-    ax2.set_ylabel("stress ratio [-]")
-
-
-def _design_legends(ax, ax2, lax) -> None:
-    """With a legend axes ``lax``: one legend in two headed sections (force, stress ratio),
-    so no second legend collides with the first; without: one legend in each panel."""
-    h1, l1 = ax.get_legend_handles_labels()
-    h2, l2 = ax2.get_legend_handles_labels()
-    if lax is None:
-        ax.legend(h1, l1, loc="upper left", fontsize=7.5, framealpha=0.9, frameon=True, edgecolor="none")
-        ax2.legend(h2, l2, loc="upper left", fontsize=7.5, ncol=4, framealpha=0.9, frameon=True, edgecolor="none")
-        return
-    from matplotlib.patches import Patch
-
-    head = Patch(visible=False)
-    leg = lax.legend([head, *h1, head, *h2], ["force", *l1, "stress ratio", *l2], loc="upper left",
-                     fontsize=7.2, borderaxespad=0.0, bbox_to_anchor=(0.0, 1.0), handlelength=2.2,
-                     labelspacing=0.35)
-    for t in (leg.get_texts()[0], leg.get_texts()[len(h1) + 1]):
-        t.set_fontweight("bold")
-        t.set_position((-30, 0))
-
-
-def _branch_bands(ax, design: Design, resp: Response) -> tuple[np.ndarray, np.ndarray]:
-    """Each branch's force as a band stacked from zero (positive up, negative down); returns the stacks.
-
-    A chain is one band (its force is the same through every link), drawn in its first
-    link's colour and labelled with its links in order.
-    """
-    x = resp.x_mm
-    parts = resp.element_force_N[0]
-    pos = np.zeros_like(x)
-    neg = np.zeros_like(x)
-    j = 0
-    for b in design.branches:
-        links = getattr(b, "links", None)
-        f = np.nan_to_num(parts[j])
-        base = np.where(f >= 0, pos, neg)
-        words = _offset_words(b.offset_mm)
-        if links is None:
-            label = f"e{j + 1}: {b.count}× {b.kind} ({b.material})"
-        else:
-            names = " › ".join(f"e{j + 1 + k} {f'{e.count}× ' if e.count > 1 else ''}{e.kind}" for k, e in enumerate(links))
-            label = f"{b.count}× chain: {names}"
-        ax.fill_between(x, base, base + f, color=PALETTE[j % len(PALETTE)], alpha=0.5, lw=0, zorder=2,
-                        label=label + (f"\n      {words}" if words else ""))
-        pos = np.where(f >= 0, pos + f, pos)
-        neg = np.where(f < 0, neg + f, neg)
-        j += len(links) if links is not None else 1
-    return pos, neg
-
-
-def _mark_snap(ax, resp: Response) -> None:
-    """A dotted line and a note where a chain snaps (the force jumps at constant stroke)."""
-    snap = resp.snap_mm[0] if resp.snap_mm is not None else math.nan
-    if not math.isfinite(snap):
-        return
-    ax.axvline(snap, color=MUTED, ls=":", lw=1.1, zorder=4, label=f"chain snaps at x = {snap:.3g} mm")
 
 
 def plot_tolerance(res: ToleranceResult, *, target=None, ax=None):

@@ -14,7 +14,7 @@ from springsynth.assembly.design import Design
 from springsynth.elements import get_kind
 from springsynth.report.style import INK, MUTED, PALETTE, styled
 
-__all__ = ["plot_schematic", "GLYPHS"]
+__all__ = ["plot_schematic", "schematic_frame", "schematic_elements", "GLYPHS"]
 
 #: offsets smaller than this are drawn as none, mm
 TINY_OFFSET_MM = 1e-6
@@ -159,15 +159,37 @@ def plot_schematic(design: Design, *, ax=None):
     n = len(design.branches)
     if own:
         fig, ax = plt.subplots(figsize=(4.0, 1.0 + 0.9 * n))
+    aspect = schematic_frame(ax, n, chains=design.has_chain)
+    schematic_elements(ax, design, aspect)
+    if own:
+        return ax.figure
+    return ax
+
+
+def schematic_frame(ax, n: int, *, chains: bool = False) -> float:
+    """What a sketch of ``n`` branches shows whatever they are: limits, ground, shuttle, the stroke,
+    the rows' separators, the title. Returns the aspect the glyphs need (x data units per inch
+    over y data units per inch: circles drawn with it stay round)."""
     top = n * _ROW
     ax.set_xlim(-0.12, 1.32)
     ax.set_ylim(-0.3, top + 0.75)
     ax.axis("off")
-    # data units per inch in x over those in y: circles drawn with it stay round
     pos = ax.get_position()
     fw, fh = ax.figure.get_size_inches()
     aspect = (1.44 / (pos.width * fw)) / ((top + 1.05) / (pos.height * fh))
     _frame(ax, top)
+    for b in range(n - 1):
+        y = top - (b + 1) * _ROW
+        ax.plot([_GX + 0.02, _SX - 0.02], [y, y], color="#eeeeee", lw=0.6, zorder=0)
+    ax.set_title("arrangement (chains in series)" if chains else "arrangement (elements in parallel)", fontsize=9,
+                 y=1.0)   # fixed: no tick labels above it
+    return aspect
+
+
+def schematic_elements(ax, design: Design, aspect: float) -> None:
+    """Each branch of ``design`` in its row of a :func:`schematic_frame`: its elements' glyphs,
+    numbers, kinds and materials, its count, and its gap or preload."""
+    top = len(design.branches) * _ROW
     j = 0
     for b, br in enumerate(design.branches):
         y = top - (b + 0.5) * _ROW
@@ -175,15 +197,7 @@ def plot_schematic(design: Design, *, ax=None):
         x1 = _offset_marks(ax, br.offset_mm, y)
         _branch_row(ax, links, j, _GX + 0.04, x1 - 0.02, y, aspect, chain=len(links) > 1 or hasattr(br, "links"))
         ax.text(_SX + 0.09, y, f"×{br.count}", ha="left", va="center", fontsize=9, color=INK, fontweight="bold")
-        if b < n - 1:
-            ax.plot([_GX + 0.02, _SX - 0.02], [y - 0.5 * _ROW, y - 0.5 * _ROW], color="#eeeeee", lw=0.6, zorder=0)
         j += len(links)
-    chains = any(hasattr(br, "links") for br in design.branches)
-    ax.set_title("arrangement (chains in series)" if chains
-                 else "arrangement (elements in parallel)", fontsize=9)
-    if own:
-        return ax.figure
-    return ax
 
 
 #: row height, ground and shuttle faces (data units)

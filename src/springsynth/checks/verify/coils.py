@@ -3,10 +3,20 @@ Winkler stresses."""
 
 from __future__ import annotations
 
+import functools
 import math
 
 import numpy as np
 from scipy.integrate import quad
+
+
+@functools.lru_cache(maxsize=16)
+def gauss_legendre(n: int) -> tuple[np.ndarray, np.ndarray]:
+    """Nodes and weights of the n-point Gauss-Legendre rule on [-1, 1] (numpy's ``leggauss``),
+    computed once per n (read-only arrays, shape (n,))."""
+    x, w = np.polynomial.legendre.leggauss(n)
+    x.flags.writeable = w.flags.writeable = False
+    return x, w
 
 
 def _cowper_shear(nu: float) -> float:
@@ -54,7 +64,7 @@ def helical_rate_castigliano(d: float, D: float, coils: float, pitch: float, E: 
     ks = _cowper_shear(nu)
     c = pitch / (2.0 * math.pi)
     full = terms == "full"
-    xg, wg = np.polynomial.legendre.leggauss(48)
+    xg, wg = gauss_legendre(48)
     phi = math.pi * (xg + 1.0)            # one turn; the integrand repeats every turn
     w = math.pi * wg
     r = np.stack([R * np.cos(phi), R * np.sin(phi), c * phi], axis=1)
@@ -75,7 +85,7 @@ def helical_rate_castigliano(d: float, D: float, coils: float, pitch: float, E: 
     if hook_loops:
         # half-loop of radius R in a plane containing the axis: point (R sin psi, R(1 - cos psi)) from
         # the attachment, force along the axis; moment arm = R sin psi; tangent (cos psi, sin psi)
-        psi, wp = np.polynomial.legendre.leggauss(48)
+        psi, wp = gauss_legendre(48)
         psi = 0.5 * math.pi * (psi + 1.0)
         wp = 0.5 * math.pi * wp
         M = R * np.sin(psi)

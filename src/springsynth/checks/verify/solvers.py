@@ -12,7 +12,12 @@ from typing import Callable
 import numpy as np
 from scipy.interpolate import CubicSpline
 
-from springsynth.checks.verify.coils import helical_rate_castigliano, wahl_shear_per_N, winkler_inner_stress_per_N
+from springsynth.checks.verify.coils import (
+    gauss_legendre,
+    helical_rate_castigliano,
+    wahl_shear_per_N,
+    winkler_inner_stress_per_N,
+)
 from springsynth.checks.verify.elastica import solve_half_span, solve_straight_column, solve_tip_loaded_beam
 from springsynth.checks.verify.hertz import hertz_force_numeric
 from springsynth.checks.verify.notch import LEVEL as NOTCH_LEVEL
@@ -149,7 +154,7 @@ def _solve_helical_compression(kind_name, p, mat, u):
     for i, ui in enumerate(u):
         if ui <= 0:
             continue
-        xg, wg = np.polynomial.legendre.leggauss(6)
+        xg, wg = gauss_legendre(6)
         uu = 0.5 * ui * (xg + 1.0)
         k = [helical_rate_castigliano(d, D, Na, max(pitch0 - v / Na, d), mat.E_MPa, mat.G_MPa, mat.nu) for v in uu]
         F[i] = 0.5 * ui * float(np.dot(wg, k))

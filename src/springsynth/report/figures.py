@@ -1,0 +1,117 @@
+"""Drawing a report's figures: every figure is an independent job, run in two worker processes
+where the machine gives this process two cores, one after the other otherwise.
+
+Matplotlib draws on one core, and a report is some thirty figures, so two processes halve the
+wait. The work is the same either way and so are the bytes: each figure depends only on its
+own data (:class:`~springsynth.report.design_figure.DesignCanvas` draws every design as a new
+figure would). The workers are forked from this process, so they start with everything it
+has imported, and they only return bytes; the files are written by the caller.
+"""
+
+from __future__ import annotations
+
+import multiprocessing
+import os
+import sys
+from concurrent.futures import ProcessPoolExecutor
+from typing import Any, Callable, Mapping, Sequence
+
+import numpy as np
+
+from springsynth.assembly.design import Design
+from springsynth.assembly.evaluate import Response
+from springsynth.model.target import Target
+
+__all__ = ["Job", "run_jobs", "default_workers", "design_jobs", "pareto_png", "pareto_fatigue_png", "curves_png",
+           "convergence_png", "design_pngs"]
+
+#: a job: result key, a module-level function, its positional and keyword arguments
+Job = tuple[str, Callable[..., Any], tuple, dict]
+
+#: at most this many worker processes (the figures of one report are too few to feed more)
+MAX_WORKERS = 2
+#: fewer per-design figures than this are drawn here: starting workers would cost more
+MIN_DESIGNS_FOR_WORKERS = 4
+
+
+def default_workers() -> int:
+    """Worker processes for a report: the cores this process may use, at most :data:`MAX_WORKERS`;
+    1 (no workers) where processes cannot be forked safely (not Linux) or inside a daemonic
+    process (a worker of a process pool, e.g. a batch task, may not start processes)."""
+    if not sys.platform.startswith("linux") or multiprocessing.current_process().daemon:
+        return 1
+    try:
+        cores = len(os.sched_getaffinity(0))
+    except AttributeError:  # pragma: no cover - Linux has it
+        cores = os.cpu_count() or 1
+    return max(1, min(MAX_WORKERS, cores))
+
+
+def run_jobs(jobs: Sequence[Job], *, workers: int = 1) -> dict[str, Any]:
+    """Run every job; returns ``{key: result}`` in the jobs' order.
+
+    ``workers > 1`` runs them in that many forked processes, each taking the next job
+    when it is free (give the largest first); otherwise here, one after the other. The
+    results are the same.
+    """
+    if workers <= 1 or len(jobs) < 2:
+        return {key: fn(*args, **kwargs) for key, fn, args, kwargs in jobs}
+    ctx = multiprocessing.get_context("fork")
+    with ProcessPoolExecutor(max_workers=min(workers, len(jobs)), mp_context=ctx) as pool:
+        futures = {key: pool.submit(fn, *args, **kwargs) for key, fn, args, kwargs in jobs}
+        return {key: f.result() for key, f in futures.items()}
+
+
+# ------------------------------------------------------------------------- the jobs' functions
+
+
+def pareto_png(ids: Sequence[str], F: np.ndarray, feasible: np.ndarray, stress_limit: float) -> bytes:
+    from springsynth.report.plots import plot_pareto
+    from springsynth.report.style import png_bytes
+
+    return png_bytes(plot_pareto(ids, F, feasible, stress_limit=stress_limit))
+
+
+def curves_png(target: Target, x: np.ndarray, curves: Mapping[str, np.ndarray], errors: Mapping[str, float]) -> bytes:
+    from springsynth.report.plots import plot_curves
+    from springsynth.report.style import png_bytes
+
+    return png_bytes(plot_curves(target, x, curves, errors))
+
+
+def convergence_png(history: Sequence[Mapping], polish: Mapping | None, max_error_pct: float) -> bytes:
+    from springsynth.report.plots import plot_convergence
+    from springsynth.report.style import png_bytes
+
+    return png_bytes(plot_convergence(history, polish=polish, max_error_pct=max_error_pct))
+
+
+def pareto_fatigue_png(ids: Sequence[str], F: np.ndarray, fatigue: np.ndarray, feasible: np.ndarray,
+                       limit: float) -> bytes:
+    from springsynth.report.fatigue import plot_pareto_fatigue
+    from springsynth.report.style import png_bytes
+
+    return png_bytes(plot_pareto_fatigue(ids, F, fatigue, feasible, limit=limit))
+
+
+def design_pngs(items: Sequence[tuple], target: Target, stress_limit: float) -> dict[str, bytes]:
+    """The figure of each design, ``items`` = (design, response, title, element stress or None),
+    as PNG bytes keyed by design name, drawn on one canvas per number of branches."""
+    from springsynth.report.design_figure import DesignCanvas
+
+    canvases: dict = {}
+    out = {}
+    for design, resp, title, elem_sr in items:
+        n = len(design.branches)
+        if n not in canvases:
+            canvases[n] = DesignCanvas(n)
+        canvases[n].draw(design, resp, target=target, stress_limit=stress_limit, title=title, element_stress=elem_sr)
+        out[design.name] = canvases[n].png()
+    return out
+
+
+def design_jobs(items: Sequence[tuple[Design, Response, str, np.ndarray | None]], target: Target,
+                stress_limit: float) -> list[Job]:
+    """The per-design figures as one job: their canvases and frames are drawn once (in two
+    processes they would be drawn twice), and the job weighs about as much as all the others."""
+    return [("designs", design_pngs, (list(items), target, stress_limit), {})] if items else []
