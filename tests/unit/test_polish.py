@@ -18,35 +18,45 @@ from springsynth.search.scoring import score
 ROOT = Path(__file__).resolve().parents[2]
 
 
+def _run(lock, solve, ids):
+    threads = [threading.Thread(target=solve, args=(i,)) for i in ids]
+    for t in threads:
+        t.start()
+    lock.begin()
+    for t in threads:
+        t.join()
+
+
 def test_lockstep_answers_every_solver_with_one_call_per_round():
-    # three solvers of Rosenbrock-like problems (Moré, Garbow & Hillstrom 1981, problem 1,
-    # minimum (1, 1)) of different starts: solved alone and in lockstep, the same answers;
-    # in lockstep as many calls as the longest solve has requests
+    # three solvers of Rosenbrock's problem (Moré, Garbow & Hillstrom 1981, problem 1, minimum
+    # (1, 1)) from different starts: in lockstep the answers they give alone; as many calls as
+    # the longest solve has requests; never two solvers running at once
     def rosen(blocks):
-        out = []
-        for b in blocks:
-            out.append(np.stack([10.0 * (b[:, 1] - b[:, 0] ** 2), 1.0 - b[:, 0]], axis=1))
-        return out
+        return [np.stack([10.0 * (b[:, 1] - b[:, 0] ** 2), 1.0 - b[:, 0]], axis=1) for b in blocks]
 
     starts = [np.array([-1.2, 1.0]), np.array([2.0, 3.0]), np.array([0.5, -0.5])]
     alone = [least_squares(lambda z: rosen([z[None]])[0][0], s, method="trf").x for s in starts]
-    lock = _Lockstep(rosen, len(starts))
-    got, asks = {}, {}
+    lock = _Lockstep(rosen, [0, 1, 2])
+    got, asks, running = {}, {}, []
 
     def solve(i):
         def fun(z):
             asks[i] = asks.get(i, 0) + 1
-            return lock.evaluate(i, z[None])[0]
+            running.remove(i)
+            r = lock.evaluate(i, z[None])[0]
+            running.append(i)
+            assert running == [i]
+            return r
         try:
+            lock.wait_turn(i)
+            running.append(i)
+            assert running == [i]
             got[i] = least_squares(fun, starts[i], method="trf").x
+            running.remove(i)
         finally:
-            lock.leave()
+            lock.leave(i)
 
-    threads = [threading.Thread(target=solve, args=(i,)) for i in range(len(starts))]
-    for t in threads:
-        t.start()
-    for t in threads:
-        t.join()
+    _run(lock, solve, [0, 1, 2])
     for i, x in enumerate(alone):
         assert np.array_equal(got[i], x)
         assert np.allclose(x, [1.0, 1.0], atol=1e-6)
@@ -64,22 +74,19 @@ def test_an_error_in_one_design_stays_with_its_solver():
             out.append(b - 1.0)
         return out
 
-    lock = _Lockstep(resid, 2)
+    lock = _Lockstep(resid, [0, 1])
     seen = {}
 
-    def ask(i, x):
+    def ask(i):
         try:
-            seen[i] = lock.evaluate(i, np.array([[x, 0.0]]))
+            lock.wait_turn(i)
+            seen[i] = lock.evaluate(i, np.array([[2.0 if i == 0 else 9.0, 0.0]]))
         except ValueError as e:
             seen[i] = e
         finally:
-            lock.leave()
+            lock.leave(i)
 
-    threads = [threading.Thread(target=ask, args=(0, 2.0)), threading.Thread(target=ask, args=(1, 9.0))]
-    for t in threads:
-        t.start()
-    for t in threads:
-        t.join()
+    _run(lock, ask, [0, 1])
     assert np.array_equal(seen[0], [[1.0, -1.0]])
     assert isinstance(seen[1], ValueError)
 

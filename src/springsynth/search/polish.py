@@ -8,9 +8,10 @@ that hands every point it needs (a trial point, or a point with its finite-diffe
 perturbations) to a shared :class:`_Lockstep` and waits; when every unfinished solver has
 asked, the points of all of them are evaluated in one population call, in design order,
 and each solver goes on with its own rows. A polish of some thirty designs then makes a
-hundred calls instead of a few thousand. The threads never compute at the same time (one
-runs while the others wait), so the results are those of solving the designs one after
-another, and the same on every run.
+hundred calls instead of a few thousand. The solvers take turns, in design order: exactly
+one thread runs at a time (the others wait for their turn), so nothing is computed
+concurrently and the results are those of solving the designs one after another, the same
+on every run.
 """
 
 from __future__ import annotations
@@ -73,12 +74,13 @@ def polish_designs(study: Study, enc: Encoding, X: np.ndarray, sc: Scores, *, ma
 
     X = np.asarray(X, dtype=float)
     jobs = [(i, f) for i, f in ((i, _free_genes(enc, x)) for i, x in enumerate(X)) if f.size]
-    lock = _Lockstep(residuals, len(jobs))
+    lock = _Lockstep(residuals, [i for i, _ in jobs])
     found: dict[int, np.ndarray] = {}
     threads = [threading.Thread(target=_solve, args=(lock, i, X[i], free, enc, max_nfev, found), daemon=True)
                for i, free in jobs]
     for th in threads:
         th.start()
+    lock.begin()
     for th in threads:
         th.join()
     lock.raise_failure()
@@ -117,13 +119,14 @@ def _solve(lock: "_Lockstep", i: int, x0: np.ndarray, free: np.ndarray, enc: Enc
 
     lb, ub = enc.xl[free], enc.xu[free]
     try:
+        lock.wait_turn(i)
         res = least_squares(fun, np.clip(x0[free], lb, ub), jac=jac, bounds=(lb, ub), method="trf",
                             max_nfev=max_nfev, x_scale="jac")
         found[i] = full(res.x[None, :])[0]
     except (ValueError, np.linalg.LinAlgError, _Abandoned):
         pass
     finally:
-        lock.leave()
+        lock.leave(i)
 
 
 class _Abandoned(Exception):
@@ -132,61 +135,76 @@ class _Abandoned(Exception):
 
 
 class _Lockstep:
-    """Gathers the points of ``n`` solvers, one request each, and evaluates them in one call.
+    """Solvers ``ids`` taking turns, in this order, and one population call for a round of their requests.
 
-    ``evaluate(i, rows)`` blocks solver ``i`` until every solver still running has asked;
-    the last one to ask hands all blocks (in solver order, so the call is the same on
-    every run) to ``residuals(blocks) -> [residuals of each block]`` and wakes the others.
-    ``leave()`` is a solver's last word.
+    Exactly one solver runs at a time: it runs until it asks for residuals
+    (``evaluate(i, rows)``) or ends (``leave(i)``), then hands the turn to the next solver
+    of the round; the last to ask evaluates every block of the round in one call (in solver
+    order, so the call is the same on every run) and hands the turn back to the first. A
+    thread waits for its first turn with ``wait_turn``; ``begin()`` gives the first one.
     """
 
-    def __init__(self, residuals, n: int):
+    def __init__(self, residuals, ids: list[int]):
         self._residuals = residuals
-        self._cv = threading.Condition()
-        self._live = n
+        self._order = list(ids)                       # solvers still running, in turn order
+        self._turn = {i: threading.Event() for i in ids}
         self._asked: dict[int, np.ndarray] = {}
-        self._answers: dict[int, np.ndarray] = {}
-        self._round = 0
+        self._answers: dict[int, object] = {}
         self._failure: BaseException | None = None
+        self._mutex = threading.Lock()                # for the solvers leaving together after a failure
         self.calls = 0
         self.evaluations = 0
 
+    def begin(self) -> None:
+        if self._order:
+            self._turn[self._order[0]].set()
+
+    def wait_turn(self, i: int) -> None:
+        self._turn[i].wait()
+        self._turn[i].clear()
+        if self._failure is not None:
+            raise _Abandoned
+
     def evaluate(self, i: int, rows: np.ndarray) -> np.ndarray:
-        with self._cv:
-            self._asked[i] = rows
-            mine = self._round
-            self._run_if_all_asked()
-            while self._round == mine:
-                self._cv.wait()
-            if self._failure is not None:
-                raise _Abandoned
-            answer = self._answers.pop(i)
+        self._asked[i] = rows
+        self._pass_on(self._order.index(i) + 1)
+        self.wait_turn(i)
+        answer = self._answers.pop(i)
         if isinstance(answer, Exception):
             raise answer
         return answer
 
-    def leave(self) -> None:
-        with self._cv:
-            self._live -= 1
-            self._run_if_all_asked()
+    def leave(self, i: int) -> None:
+        with self._mutex:
+            at = self._order.index(i)
+            self._order.pop(at)
+            if self._failure is not None:      # every solver is awake and leaving
+                return
+        self._turn.pop(i)
+        self._pass_on(at)
 
     def raise_failure(self) -> None:
         if self._failure is not None:
             raise self._failure
 
-    def _run_if_all_asked(self) -> None:
-        if not self._asked or len(self._asked) < self._live:
+    def _pass_on(self, at: int) -> None:
+        """The turn to the solver at position ``at`` of this round, or, past the last one, the round's
+        call and then the turn to the first solver (every waiting solver, when the call failed)."""
+        if at < len(self._order):
+            self._turn[self._order[at]].set()
             return
-        order = sorted(self._asked)
-        blocks = [self._asked[k] for k in order]
-        self._asked = {}
-        try:
-            if self._failure is None:
+        if self._asked:
+            order = [k for k in self._order if k in self._asked]
+            blocks = [self._asked.pop(k) for k in order]
+            try:
                 self._answers.update(zip(order, self._evaluate(blocks)))
-        except BaseException as e:  # noqa: BLE001 - an interrupt: re-raised by raise_failure in the caller
-            self._failure = e
-        self._round += 1
-        self._cv.notify_all()
+            except BaseException as e:  # noqa: BLE001 - an interrupt: re-raised by raise_failure in the caller
+                self._failure = e
+                for ev in list(self._turn.values()):
+                    ev.set()
+                return
+        if self._order:
+            self._turn[self._order[0]].set()
 
     def _evaluate(self, blocks: list[np.ndarray]) -> list:
         """Residuals of every block from one call; when that call raises, block by block, each
