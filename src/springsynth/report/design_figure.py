@@ -37,7 +37,7 @@ __all__ = ["DesignCanvas", "plot_design", "plot_target", "force_limits", "DESIGN
 
 #: resolution of the per-design figures, dots per inch (1150 x 660 pixels)
 DESIGN_DPI = 100
-#: frames kept as pixels, for as many sets of limits (3 MB each)
+#: frames kept as pixels, for as many layouts and sets of limits (3 MB each)
 _FRAMES_KEPT = 6
 #: the title's distance above the axes, points (matplotlib's default axes.titlepad)
 STYLE_TITLE_PAD_PT = 6.0
@@ -128,7 +128,7 @@ class DesignCanvas:
         self.figure, self._axes = _layout(self.n_branches, self.schematic)
         self._frame_key = None        # what the frame's artists are made for
         self._limits = None           # the limits the axes are set to
-        self._frames: dict = {}       # limits -> the frame's pixels drawn with them (a few)
+        self._frames: dict = {}       # (what the frame is made for, limits) -> its pixels (a few)
         self._frame_artists: list = []
         self._design_artists: list = []   # added for the design shown (removed for the next)
         self._redrawn: list = []          # the frame's artists drawn again over each design (the spines)
@@ -169,14 +169,14 @@ class DesignCanvas:
         canvas = self.figure.canvas
         layer = self._design_artists + self._redrawn
         with rc_context(STYLE):
-            pixels = self._frames.get(self._limits)
+            pixels = self._frames.get((self._frame_key, self._limits))
             if pixels is None:
                 for a in layer:
                     a.set_animated(True)
                 canvas.draw()                                 # the frame alone: animated artists are left out
                 if len(self._frames) >= _FRAMES_KEPT:
                     self._frames.pop(next(iter(self._frames)))
-                self._frames[self._limits] = canvas.copy_from_bbox(self.figure.bbox)
+                self._frames[(self._frame_key, self._limits)] = canvas.copy_from_bbox(self.figure.bbox)
                 for a in layer:
                     a.set_animated(False)
             else:
@@ -220,7 +220,6 @@ class DesignCanvas:
             _legend_column(lax, [("force (elements as sketched above)", rows_f), ("stress ratio", rows_s)])
         self._frame_artists = [a for a in _children(self._axes).values() if id(a) not in before]
         self._frame_key = key
-        self._frames = {}
 
     def _design(self, design, resp, target, stress_limit, title, element_stress, snap) -> list:
         """Everything of this design, in the order a full drawing draws it; returns the artists added."""

@@ -101,7 +101,8 @@ def design_pngs(items: Sequence[tuple], target: Target, stress_limit: float) -> 
 
     canvases: dict = {}
     out = {}
-    for design, resp, title, elem_sr in items:
+    # designs of one layout one after the other: each canvas's frame changes as little as it can
+    for design, resp, title, elem_sr in sorted(items, key=lambda it: (len(it[0].branches), it[0].layout)):
         n = len(design.branches)
         if n not in canvases:
             canvases[n] = DesignCanvas(n)
