@@ -3,9 +3,13 @@
 from __future__ import annotations
 
 import html
+import os
 import re
 import shutil
+import subprocess
+import sys
 from html.parser import HTMLParser
+from pathlib import Path
 
 import numpy as np
 import pandas as pd
@@ -300,3 +304,29 @@ def test_palette_png_keeps_the_picture_and_the_background_exact():
     assert np.all(back[white] == 255)
     assert Image.open(io.BytesIO(png)).mode == "P"
     assert png == palette_png(rgba)  # deterministic
+
+
+_MODULES_AFTER = """
+import runpy, sys
+sys.argv = ["springsynth"] + sys.argv[1:]
+try:
+    runpy.run_module("springsynth.cli", run_name="__main__")
+except SystemExit as e:
+    assert not e.code, e.code
+print(" ".join(sorted(m for m in sys.modules if m.split(".")[0] in ("pymoo", "matplotlib") or m.startswith("springsynth.search"))))
+"""
+
+
+@pytest.mark.slow
+@pytest.mark.parametrize("command", [["report"], ["verify", "--top", "1", "--points", "3"]])
+def test_report_and_verify_of_a_run_do_not_load_the_search(run_copy, command):
+    # rebuilding a report or verifying a run never loads the search (pymoo), and verifying never
+    # loads the plotting library: a user waits for neither
+    env = {**os.environ, "PYTHONPATH": str(Path(__file__).resolve().parents[2] / "src")}
+    out = subprocess.run([sys.executable, "-c", _MODULES_AFTER, command[0], str(run_copy), *command[1:]],
+                         capture_output=True, text=True, env=env, timeout=600)
+    assert out.returncode == 0, out.stderr
+    loaded = out.stdout.strip().splitlines()[-1].split()
+    assert not [m for m in loaded if m.startswith(("pymoo", "springsynth.search"))], loaded
+    if command[0] == "verify":
+        assert not [m for m in loaded if m.startswith("matplotlib")], loaded

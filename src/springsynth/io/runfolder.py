@@ -31,9 +31,10 @@ from springsynth.model.errors import InputError
 from springsynth.model.safety import CAUTION
 from springsynth.model.study import Study, curve_grid
 from springsynth.model.version import __version__
-from springsynth.report.html import REPORT, ReportInput, render_report
 
-if TYPE_CHECKING:  # the run folder only reads a result's fields; the search is not loaded to write one
+if TYPE_CHECKING:  # the run folder only reads a result's fields: the search is not loaded to write one, and
+    # the report (matplotlib) only to build one
+    from springsynth.report.html import ReportInput
     from springsynth.search.synthesis import Synthesis
 
 __all__ = ["write_run", "read_run", "build_report", "RunFolder", "CHECKPOINT", "run_of_design", "run_target",
@@ -204,6 +205,8 @@ def run_target(run: Path):
 
 
 def _report_input(folder: Path | RunFolder, study: Study | None) -> ReportInput:
+    from springsynth.report.html import ReportInput
+
     if isinstance(folder, RunFolder):
         run = folder
     elif study is not None and not (Path(folder) / "study.toml").exists():
@@ -234,6 +237,8 @@ def build_report(folder: Path | RunFolder, *, study: Study | None = None) -> Pat
     file is written atomically.
     """
     run = _report_input(folder, study)
+    from springsynth.report.html import REPORT, render_report
+
     rendered = render_report(run)
     for fname, png in rendered.figures.items():
         write_bytes_atomic(run.folder / fname, png)
