@@ -330,3 +330,18 @@ def test_report_and_verify_of_a_run_do_not_load_the_search(run_copy, command):
     assert not [m for m in loaded if m.startswith(("pymoo", "springsynth.search"))], loaded
     if command[0] == "verify":
         assert not [m for m in loaded if m.startswith("matplotlib")], loaded
+
+
+def _dies_in_a_worker(k):
+    import multiprocessing
+
+    if multiprocessing.current_process().name != "MainProcess":
+        os._exit(3)          # a worker process that dies (as a crash would)
+    return k * 2
+
+
+def test_jobs_are_run_here_when_a_worker_process_dies():
+    from springsynth.report.figures import run_jobs
+
+    jobs = [(f"j{k}", _dies_in_a_worker, (k,), {}) for k in range(3)]
+    assert run_jobs(jobs, workers=2) == {"j0": 0, "j1": 2, "j2": 4}

@@ -14,6 +14,7 @@ import multiprocessing
 import os
 import sys
 from concurrent.futures import ProcessPoolExecutor
+from concurrent.futures.process import BrokenProcessPool
 from typing import Any, Callable, Mapping, Sequence
 
 import numpy as np
@@ -51,15 +52,18 @@ def run_jobs(jobs: Sequence[Job], *, workers: int = 1) -> dict[str, Any]:
     """Run every job; returns ``{key: result}`` in the jobs' order.
 
     ``workers > 1`` runs them in that many forked processes, each taking the next job
-    when it is free (give the largest first); otherwise here, one after the other. The
-    results are the same.
+    when it is free (give the largest first); otherwise, or when a worker process dies,
+    here, one after the other. The results are the same.
     """
-    if workers <= 1 or len(jobs) < 2:
-        return {key: fn(*args, **kwargs) for key, fn, args, kwargs in jobs}
-    ctx = multiprocessing.get_context("fork")
-    with ProcessPoolExecutor(max_workers=min(workers, len(jobs)), mp_context=ctx) as pool:
-        futures = {key: pool.submit(fn, *args, **kwargs) for key, fn, args, kwargs in jobs}
-        return {key: f.result() for key, f in futures.items()}
+    if workers > 1 and len(jobs) > 1:
+        try:
+            ctx = multiprocessing.get_context("fork")
+            with ProcessPoolExecutor(max_workers=min(workers, len(jobs)), mp_context=ctx) as pool:
+                futures = {key: pool.submit(fn, *args, **kwargs) for key, fn, args, kwargs in jobs}
+                return {key: f.result() for key, f in futures.items()}
+        except (BrokenProcessPool, OSError):   # a worker died (or could not start): draw here instead
+            pass
+    return {key: fn(*args, **kwargs) for key, fn, args, kwargs in jobs}
 
 
 # ------------------------------------------------------------------------- the jobs' functions
