@@ -1,8 +1,8 @@
 """Drawing a report's figures: every figure is an independent job, run in two worker processes
-where the machine gives this process two cores, one after the other otherwise.
+where the machine has two cores and leaves one idle, one after the other otherwise.
 
-Matplotlib draws on one core, and a report is some thirty figures, so two processes halve the
-wait. The work is the same either way and so are the bytes: each figure depends only on its
+Matplotlib draws on one core, and a report is some thirty figures, so two processes nearly halve
+the wait on an idle machine (on a busy one they only share the same core time). The work is the same either way and so are the bytes: each figure depends only on its
 own data (:class:`~springsynth.report.design_figure.DesignCanvas` draws every design as a new
 figure would). The workers are forked from this process, so they start with everything it
 has imported, and they only return bytes; the files are written by the caller.
@@ -36,16 +36,20 @@ MIN_DESIGNS_FOR_WORKERS = 4
 
 
 def default_workers() -> int:
-    """Worker processes for a report: the cores this process may use, at most :data:`MAX_WORKERS`;
-    1 (no workers) where processes cannot be forked safely (not Linux) or inside a daemonic
-    process (a worker of a process pool, e.g. a batch task, may not start processes)."""
+    """Worker processes for a report: the cores this process may use that the machine leaves idle,
+    at most :data:`MAX_WORKERS`. 1 (no workers) on a busy machine (where a second process only
+    shares the same core time and adds its start), where processes cannot be forked safely (not
+    Linux) and inside a daemonic process (a worker of a process pool, e.g. a batch task, may not
+    start processes)."""
     if not sys.platform.startswith("linux") or multiprocessing.current_process().daemon:
         return 1
     try:
         cores = len(os.sched_getaffinity(0))
     except AttributeError:  # pragma: no cover - Linux has it
         cores = os.cpu_count() or 1
-    return max(1, min(MAX_WORKERS, cores))
+    busy = os.getloadavg()[0]            # runnable processes, this one included, over the last minute
+    idle = min(cores, os.cpu_count() or cores) - busy
+    return max(1, min(MAX_WORKERS, cores, int(idle) + 1))
 
 
 def run_jobs(jobs: Sequence[Job], *, workers: int = 1) -> dict[str, Any]:
