@@ -224,7 +224,7 @@ def test_cli_exports_a_run_top_designs(tmp_path):
     for name, body in cards:
         maker = body[body.index("Maker's specification"):]
         assert maker[:maker.index("</table>")].count("<tr><td>e") == n_elements[name]
-        assert len(re.findall(r'alt="[^"]* outline" src="data:image/png;base64,', maker)) == flat[name]
+        assert len(re.findall(r'aria-label="[^"]* outline"><svg ', maker)) == flat[name]
     r = runner.invoke(app, ["export", str(run), "--top", "2"])
     assert r.exit_code == 0, r.output
     ids = [Path(p).name for p in sorted((run / "export").iterdir())]

@@ -253,3 +253,60 @@ def test_flat_contours_are_simple_and_enclose_the_part(shape, y_of_x):
     xs = np.linspace(0.0, L, 200_001)
     arc = np.sum(np.hypot(np.diff(xs), np.diff(y_of_x(xs))))
     assert area == pytest.approx(2 * c * c + arc * t, rel=1e-4)
+
+
+def _svg_arc_midpoint(p0, p1, r, large, sweep):
+    """Middle of an SVG elliptical arc with rx = ry = r and no rotation, from the endpoint-to-centre
+    conversion of the W3C SVG 1.1 specification, Appendix F.6.5 (equations F.6.5.1 to F.6.5.6)."""
+    (x1, y1), (x2, y2) = p0, p1
+    xp, yp = (x1 - x2) / 2, (y1 - y2) / 2
+    coef = math.sqrt(max(0.0, (r * r * r * r - r * r * yp * yp - r * r * xp * xp) / (r * r * (xp * xp + yp * yp))))
+    coef *= -1.0 if large == sweep else 1.0
+    cx, cy = coef * yp + (x1 + x2) / 2, -coef * xp + (y1 + y2) / 2
+    t1 = math.atan2((yp - (-coef * xp)) / r, (xp - coef * yp) / r)
+    t2 = math.atan2((-yp - (-coef * xp)) / r, (-xp - coef * yp) / r)
+    dt = (t2 - t1) % (2 * math.pi)
+    if not sweep:
+        dt -= 2 * math.pi
+    return cx + r * math.cos(t1 + dt / 2), cy + r * math.sin(t1 + dt / 2)
+
+
+def test_report_outline_svg_draws_the_dxf_arcs():
+    """The report's SVG outline of a notch stage: its arcs have the DXF's centres and sides, checked
+    through ezdxf's own bulge-to-arc conversion (ezdxf.math.bulge_to_arc) against the SVG
+    specification's arc parameterisation (y is flipped in SVG)."""
+    import re
+
+    from ezdxf.math import bulge_to_arc
+
+    from springsynth.export.outline import outline_svg
+
+    L, t, r = 20.0, 0.3, 1.5
+    prof = Profile("notch_stage", L, t, 8.0, mount_mm=(5.0, 5.0), block_mm=5.0, notch_radius_mm=r)
+    svg = outline_svg(prof)
+    d = re.search(r'<path d="([^"]+)"', svg).group(1)
+    arcs, here = [], None          # (start, r_x, r_y, large-arc flag, sweep flag, end), walking the path
+    for cmd, args in re.findall(r"([MLAZ])([^MLAZ]*)", d):
+        v = [float(a) for a in args.split()]
+        if cmd == "A":
+            arcs.append((here, v[0], v[1], int(v[3]), int(v[4]), (v[5], v[6])))
+        if cmd != "Z":
+            here = (v[-2], v[-1])
+    expected = []
+    for c in contours(prof):
+        for (x0, y0, b), (x1, y1, _) in zip(c, c[1:] + c[:1]):
+            if b:
+                centre, a0, a1, rad = bulge_to_arc((x0, y0), (x1, y1), b)   # counter-clockwise from a0 to a1
+                am = a0 + ((a1 - a0) % (2 * math.pi)) / 2
+                expected.append(((x0, -y0), (x1, -y1), (centre[0] + rad * math.cos(am), centre[1] + rad * math.sin(am))))
+    assert len(arcs) == len(expected) == 8
+    for (start, rx, ry, large, sweep, end), (s0, s1, mid) in zip(arcs, expected):
+        assert start == pytest.approx(s0, abs=1e-4) and end == pytest.approx(s1, abs=1e-4)
+        assert rx == ry == pytest.approx(r, abs=1e-4)
+        mx, my = _svg_arc_midpoint(start, end, rx, large, sweep)
+        assert (mx, -my) == pytest.approx(mid, abs=1e-3)
+    # every outline vertex is in the path (y flipped), and the view box holds them all
+    vb = tuple(map(float, re.search(r'viewBox="([^"]+)"', svg).group(1).split()))
+    for c in contours(prof):
+        for x, y, _ in c:
+            assert vb[0] <= x <= vb[0] + vb[2] and vb[1] <= -y <= vb[1] + vb[3]

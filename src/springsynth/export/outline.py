@@ -28,7 +28,7 @@ import numpy as np
 
 from springsynth.export.spec import Profile
 
-__all__ = ["contours", "outline_document", "dxf_bytes", "audit_errors", "preview_png", "CHORD_TOLERANCE_MM",
+__all__ = ["contours", "outline_document", "dxf_bytes", "audit_errors", "preview_png", "outline_svg", "CHORD_TOLERANCE_MM",
            "LAYER_OUTLINE", "LAYER_MOUNT", "LAYER_NOTES", "LAYER_DIMENSIONS", "link_spacing", "mm_text"]
 
 #: largest distance between a sampled face and the true curve, mm
@@ -154,6 +154,51 @@ def _mount_edges(prof: Profile) -> list[tuple[tuple[float, float], tuple[float, 
     half = 0.5 * (prof.width_mm if prof.shape == "strip_blank" else max(prof.block_mm, prof.thickness_mm))
     xs = [x for x, c in ((0.0, prof.mount_mm[0]), (prof.length_mm, prof.mount_mm[1])) if c > 0]
     return [((x, -half), (x, half)) for x in xs]
+
+
+# --------------------------------------------------------------------------- SVG preview (pure)
+
+def _svg_path(contour: Sequence[Vertex]) -> str:
+    """One closed contour as SVG path data, y flipped (SVG's y runs down); a bulge ``b`` becomes an arc
+    of included angle ``4 atan|b|`` and radius ``chord / (2 sin(angle/2))``, counter-clockwise for
+    ``b > 0`` with y up: the angle falls in SVG's frame (y down), sweep flag 0."""
+    out = [f"M{contour[0][0]:.4f} {-contour[0][1]:.4f}"]
+    n = len(contour)
+    for k, (x0, y0, b) in enumerate(contour):
+        x1, y1 = contour[(k + 1) % n][:2]
+        if b == 0.0:
+            out.append(f"L{x1:.4f} {-y1:.4f}")
+            continue
+        theta = 4.0 * math.atan(abs(b))
+        r = math.hypot(x1 - x0, y1 - y0) / (2.0 * math.sin(0.5 * theta))
+        out.append(f"A{r:.4f} {r:.4f} 0 {int(theta > math.pi)} {int(b < 0)} {x1:.4f} {-y1:.4f}")
+    return " ".join(out) + " Z"
+
+
+def outline_svg(prof: Profile, *, max_width_px: int = 700, max_height_px: int = 360) -> str:
+    """The part's outline (the DXF's ``OUTLINE`` contours and dashed ``MOUNT_EDGE`` lines) as an SVG
+    element, mm in its view box, drawn to scale within ``max_width_px`` x ``max_height_px``.
+
+    The same contours as :func:`outline_document` draws (:func:`contours`), written as SVG paths
+    (bulges as exact arcs), so a page can show the outline without a drawing library.
+    """
+    paths = [_svg_path(c) for c in contours(prof)]
+    edges = _mount_edges(prof)
+    pts = np.array([v[:2] for c in contours(prof) for v in c] + [p for e in edges for p in e], float)
+    x0, y0 = pts.min(axis=0)
+    x1, y1 = pts.max(axis=0)
+    pad = 0.03 * max(x1 - x0, y1 - y0)          # arcs bulge inwards (notches): the points bound the part
+    w, h = x1 - x0 + 2 * pad, y1 - y0 + 2 * pad
+    scale = min(max_width_px / w, max_height_px / h)          # px per mm
+    width, height = max(int(round(w * scale)), 24), max(int(round(h * scale)), 12)
+    px = 1.0 / scale                                           # one pixel in mm
+    lines = "".join(f'<line x1="{a[0]:.4f}" y1="{-a[1]:.4f}" x2="{b[0]:.4f}" y2="{-b[1]:.4f}"/>' for a, b in edges)
+    return (f'<svg xmlns="http://www.w3.org/2000/svg" viewBox="{x0 - pad:.4f} {-y1 - pad:.4f} {w:.4f} {h:.4f}" '
+            f'width="{width}" height="{height}" style="max-width:100%;height:auto;background:#fff">'
+            f'<path d="{" ".join(paths)}" fill="#dde3ea" fill-rule="evenodd" stroke="#1f2d3d" '
+            f'stroke-width="{1.2 * px:.5g}"/>'
+            f'<g stroke="#2b6cb0" stroke-width="{px:.5g}" stroke-dasharray="{5 * px:.5g} {3 * px:.5g}">{lines}</g>'
+            "</svg>")
 
 
 # --------------------------------------------------------------------------- DXF document

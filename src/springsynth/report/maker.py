@@ -6,13 +6,13 @@ The records and previews come from :mod:`springsynth.export` (the same ones
 
 from __future__ import annotations
 
-import base64
 import html
 import math
 from collections.abc import Mapping
 from dataclasses import dataclass
 
-from springsynth.export import DesignSpec, outlines, previews, run_specs
+from springsynth.export import DesignSpec, run_specs
+from springsynth.export.outline import outline_svg
 
 __all__ = ["MakerView", "maker_views", "maker_section"]
 
@@ -33,23 +33,23 @@ _SHOWN = (
 )
 
 
-#: resolution of the outline previews inlined in the report (the export folder's are sharper)
-PREVIEW_DPI = 75
-
-
 @dataclass(frozen=True)
 class MakerView:
-    """A design's specification and the PNG preview of each flat part (keyed by part label)."""
+    """A design's specification and the SVG outline of each flat part (keyed by part label)."""
 
     spec: DesignSpec
-    previews: Mapping[str, bytes]
+    outlines: Mapping[str, str]
 
 
 def maker_views(designs, table, study) -> dict[str, MakerView]:
-    """Specification and outline previews of every design of a run, keyed by design name."""
+    """Specification and outline of every design of a run, keyed by design name.
+
+    The outlines are drawn as SVG from the contours the DXF files are written from (the card's
+    table says what the DXF's notes and dimension say).
+    """
     specs = run_specs(designs, table, study)
-    # the card's table says what the DXF's notes and dimension say: the previews leave them out (text is slow to draw)
-    return {s.design.name: MakerView(s, previews(s, outlines(s, notes=False), dpi=PREVIEW_DPI)) for s in specs}
+    return {s.design.name: MakerView(s, {label: outline_svg(prof) for label, prof in s.profiles.items()})
+            for s in specs}
 
 
 def _e(v) -> str:
@@ -93,14 +93,12 @@ def maker_section(view: MakerView) -> str:
                  "<th>make</th><th>loads per copy</th><th>tolerances (±)</th></tr></thead><tbody>" + rows
                  + "</tbody></table></div>")
     by_label = {r["part"]: r for r in spec.records}
-    for label, png in view.previews.items():
+    for label, svg in view.outlines.items():
         rec = by_label[label]
-        src = base64.b64encode(png).decode("ascii")
-        parts.append(f'<figure class=w700><img alt="{_e(spec.design.name)} {_e(label)} outline" '
-                     f'src="data:image/png;base64,{src}"><figcaption>Outline of {_e(label)} ({_e(rec["kind"])}) in the '
-                     f"plane of bending, drawn back from its DXF <code>{_e(rec['dxf'])}</code> (without its notes and dimension)."
-                     "</figcaption>"
-                     "</figure>")
+        parts.append(f'<figure class=w700 role=img aria-label="{_e(spec.design.name)} {_e(label)} outline">{svg}'
+                     f"<figcaption>Outline of {_e(label)} ({_e(rec['kind'])}) x{rec['quantity']} in the plane of "
+                     f"bending, to scale: the contours of its DXF <code>{_e(rec['dxf'])}</code>; dashed, where the "
+                     "flexing length meets its mounting.</figcaption></figure>")
     parts.append("<p class=sub>Loads at the start (installed) and the end (working) of the target's stroke. "
                  "<code>springsynth export RUN</code> writes the full specification (spec.csv, spec.json) and the "
                  f"DXF outlines into <code>export/{_e(spec.design.name)}/</code>.</p>")
