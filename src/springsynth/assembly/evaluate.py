@@ -26,6 +26,8 @@ from dataclasses import dataclass
 
 import numpy as np
 
+from springsynth.assembly._state import Context, Response, Totals, peak_ratio
+from springsynth.assembly.branches import add_branches
 from springsynth.assembly.chains import (
     GRID_POINTS_FALLING,
     ChainPath,
@@ -43,202 +45,12 @@ from springsynth.model.study import Envelope
 
 __all__ = ["Response", "element_extra_outputs", "envelope_margins", "evaluate_design", "evaluate_population"]
 
-#: parameters more than this factor beyond their bounds are outside the numerical domain
-_DOMAIN = 1e6
-#: largest element stroke (and stroke minus offset) evaluated, mm; beyond it a design is not finite
-_MAX_STROKE_MM = 1e9
-#: stroke points used for the peak stress of kinds whose stress is not monotonic
-_STRESS_GRID = 33
-#: rows per chunk when adding a slot's forces to the total (keeps the temporary small)
-_CHUNK_ROWS = 2048
 #: chains per chunk when following their loading paths (the temporaries stay in cache)
 _CHAIN_ROWS = 1024
 #: a chain link's table: the stroke grid on [0, 1] (times the link's reach); finer where a chain goes
 #: through a falling link (its curve bends sharply on either side of its snap path)
 _LINK_GRID = unit_grid()
 _LINK_GRID_FALLING = unit_grid(GRID_POINTS_FALLING)
-
-
-@dataclass(frozen=True)
-class Response:
-    """What a population does over the stroke points ``x`` (shapes: n designs, S slots, m points).
-
-    Attributes
-    ----------
-    x_mm : ndarray, shape (m,)
-    force_N : ndarray, shape (n, m)
-        Total force.
-    element_force_N : ndarray, shape (n, S, m) or None
-        Each branch's contribution (all copies), in the slot of its element or of its
-        chain's first link (a chain's other links hold zeros), when asked for.
-    stress_ratio : ndarray, shape (n,)
-        Peak over elements and stroke [0, x_max] of stress / allowable.
-    stress_ratio_curve : ndarray, shape (n, m) or None
-        Largest element stress ratio at each x, when asked for.
-    box_mm : ndarray, shape (n, 3)
-        Packed mechanism: length along the stroke, stack width, stack height.
-    size_mm3, mass_g : ndarray, shape (n,)
-    validity : dict of str -> ndarray, shape (n,)
-        Worst normalised margin over elements for each named validity rule (<= 0 inside).
-    min_thickness_mm : ndarray, shape (n,)
-        Smallest section thickness or wire diameter used (inf when none).
-    finite : ndarray of bool, shape (n,)
-        False where any model returned NaN or inf (such a design is never feasible).
-    snap_mm : ndarray, shape (n,)
-        Stroke x in (0, x_max] of the first snap of a chain (its loading path folds back
-        and the force jumps), NaN when none.
-    element_stroke_mm : ndarray, shape (n, S, m) or None
-        Each element's own stroke (a chain link's deflection along its chain's loading
-        path), when asked for.
-    element_stress_ratio : ndarray, shape (n, S, m) or None
-        Each element's stress / allowable at its own stroke, when asked for.
-    """
-
-    x_mm: np.ndarray
-    force_N: np.ndarray
-    element_force_N: np.ndarray | None
-    stress_ratio: np.ndarray
-    stress_ratio_curve: np.ndarray | None
-    box_mm: np.ndarray
-    size_mm3: np.ndarray
-    mass_g: np.ndarray
-    validity: dict[str, np.ndarray]
-    min_thickness_mm: np.ndarray
-    finite: np.ndarray
-    snap_mm: np.ndarray | None = None
-    element_stroke_mm: np.ndarray | None = None
-    element_stress_ratio: np.ndarray | None = None
-
-    @property
-    def validity_worst(self) -> np.ndarray:
-        """Worst margin over all rules, shape (n,) (-inf when no rule applies)."""
-        if not self.validity:
-            return np.full(self.force_N.shape[0], -np.inf)
-        return np.max(np.stack(list(self.validity.values())), axis=0)
-
-
-@dataclass(frozen=True)
-class _Context:
-    """What every step reads: the population in slot-major arrays and each kind's numerical domain."""
-
-    slots: Slots
-    x: np.ndarray
-    x_max: float
-    detail: bool
-    mats_all: MaterialArrays
-    dom_lo: list
-    dom_hi: list
-    kind_lo: list
-    thick: list
-    params_t: np.ndarray     # (S, P, n)
-    material_t: np.ndarray   # (S, n)
-    count_t: np.ndarray
-    offset_t: np.ndarray
-    slot_sane: np.ndarray    # (S, n): finite count and a stroke minus offset inside _MAX_STROKE_MM
-
-    @classmethod
-    def of(cls, slots: Slots, x: np.ndarray, x_max: float, detail: bool) -> "_Context":
-        kinds = slots.kinds
-        # numerical domain and fallback values of each kind, shape (parameters, 1)
-        dom_lo = [np.array([q.lo / _DOMAIN if q.lo > 0 and not q.choices else q.lo for q in k.params], float)[:, None]
-                  for k in kinds]
-        dom_hi = [np.array([q.hi if q.choices else q.hi * _DOMAIN for q in k.params], float)[:, None] for k in kinds]
-        kind_lo = [np.array([q.lo for q in k.params], float)[:, None] for k in kinds]
-        thick = [[q.name for q in k.params if q.thickness] for k in kinds]
-        # slot-major copies: the gathers read contiguous rows
-        count_t = np.ascontiguousarray(slots.count.T)
-        offset_t = np.ascontiguousarray(slots.offset_mm.T)
-        with np.errstate(invalid="ignore"):
-            slot_sane = np.isfinite(count_t) & (np.abs(x_max - offset_t) <= _MAX_STROKE_MM)
-        return cls(slots, x, x_max, detail, MaterialArrays.take(slots.materials, np.arange(len(slots.materials))),
-                   dom_lo, dom_hi, kind_lo, thick, np.ascontiguousarray(slots.params.transpose(1, 2, 0)),
-                   np.ascontiguousarray(slots.material.T), count_t, offset_t, slot_sane)
-
-    def in_domain(self, ki: int, pk: np.ndarray, sane: np.ndarray) -> tuple[np.ndarray, np.ndarray]:
-        """Parameters ``pk`` (parameters, rows) of kind ``ki`` inside the numerical domain, and which rows were.
-
-        Parameters outside it (non-finite, a factor _DOMAIN beyond a bound, a choice index
-        out of range) never reach a kernel: such rows are evaluated at the lower bounds and
-        marked not finite (``sane`` is updated in place).
-        """
-        for inside in (pk >= self.dom_lo[ki]) & (pk <= self.dom_hi[ki]):      # faster than np.all(axis=0)
-            sane &= inside
-        if not sane.all():
-            pk = np.where(sane, pk, self.kind_lo[ki])
-        return pk, sane
-
-
-@dataclass
-class _Totals:
-    """Running totals over the slots (design order) and one slot's results in kind order (``*_s``)."""
-
-    force: np.ndarray
-    elem_force: np.ndarray | None
-    sr: np.ndarray
-    sr_curve: np.ndarray | None
-    along: np.ndarray
-    stack_w: np.ndarray
-    stack_h: np.ndarray
-    mass: np.ndarray
-    tmin: np.ndarray
-    finite: np.ndarray
-    validity: dict
-    snap: np.ndarray
-    elem_stroke: np.ndarray | None
-    elem_sr: np.ndarray | None
-    f_s: np.ndarray
-    sr_curve_s: np.ndarray | None
-    u_s: np.ndarray | None
-    peak_s: np.ndarray
-    along_s: np.ndarray
-    w_s: np.ndarray
-    h_s: np.ndarray
-    mass_s: np.ndarray
-    thin_s: np.ndarray
-    ok_s: np.ndarray
-
-    @classmethod
-    def empty(cls, n: int, S: int, m: int, detail: bool) -> "_Totals":
-        z = lambda: np.zeros(n)  # noqa: E731
-        e = lambda: np.empty(n)  # noqa: E731
-        return cls(
-            force=np.empty((n, m)) if S else np.zeros((n, m)),    # the first slot writes it whole
-            elem_force=np.zeros((n, S, m)) if detail else None, sr=z(), sr_curve=np.zeros((n, m)) if detail else None,
-            along=z(), stack_w=z(), stack_h=z(), mass=z(), tmin=np.full(n, np.inf), finite=np.ones(n, dtype=bool),
-            validity={}, snap=np.full(n, np.nan), elem_stroke=np.zeros((n, S, m)) if detail else None,
-            elem_sr=np.zeros((n, S, m)) if detail else None,
-            f_s=np.empty((n, m)), sr_curve_s=np.empty((n, m)) if detail else None,
-            u_s=np.empty((n, m)) if detail else None, peak_s=e(), along_s=e(), w_s=e(), h_s=e(), mass_s=e(),
-            thin_s=e(), ok_s=np.empty(n, dtype=bool))
-
-    def add_margins(self, margins: dict, rows: np.ndarray, ok: np.ndarray, first: bool) -> None:
-        """Worst margin per rule into ``validity[name][rows]``; a non-finite margin clears ``ok``.
-
-        ``first``: nothing was written yet for these rows (they are still at -inf).
-        """
-        n = self.force.shape[0]
-        for name, g in margins.items():
-            g_ok = np.isfinite(g)
-            ok &= g_ok
-            g = np.where(g_ok, g, np.inf)
-            cur = self.validity.get(name)
-            if cur is None:
-                cur = self.validity[name] = np.full(n, -np.inf)
-            cur[rows] = g if first else np.maximum(cur[rows], g)
-
-    def response(self, x: np.ndarray) -> Response:
-        box = np.stack([self.along, self.stack_w, self.stack_h], axis=1)
-        finite = self.finite
-        with np.errstate(all="ignore"):
-            size = self.along * self.stack_w * self.stack_h
-            # sums over slots can overflow even when every element's values are finite
-            finite &= np.isfinite(self.force.sum(axis=1) + size + self.mass)
-        return Response(
-            x_mm=x, force_N=self.force, element_force_N=self.elem_force,
-            stress_ratio=np.where(finite, self.sr, np.inf), stress_ratio_curve=self.sr_curve, box_mm=box,
-            size_mm3=size, mass_g=self.mass, validity=self.validity, min_thickness_mm=self.tmin, finite=finite,
-            snap_mm=self.snap, element_stroke_mm=self.elem_stroke, element_stress_ratio=self.elem_sr,
-        )
 
 
 def evaluate_population(slots: Slots, x_mm: np.ndarray, *, x_max_mm: float | None = None,
@@ -259,120 +71,22 @@ def evaluate_population(slots: Slots, x_mm: np.ndarray, *, x_max_mm: float | Non
 
     Notes
     -----
-    Two steps, each looping over slots and kinds (a handful), never over designs: the
-    branches of one element (:func:`_add_slot`, one vectorised kernel call per kind and
-    slot), then the chains (:func:`_add_chains`, grouped by length and by whether they
-    pass a falling link, whatever slot they start in). Within a slot the rows are taken in kind order (:meth:`Slots.slot_order`), so each kind
-    writes its forces, peak stress ratios, boxes and masses into one contiguous block of
-    the slot's arrays; one gather per slot brings them back to design order and combines
-    them with the slots before, in slot order (the sums are the same, bit for bit, as
-    adding slot after slot). Validity margins go straight to their rows.
+    Two steps, each looping over kinds and groups (a handful), never over designs: the
+    branches of one element (:func:`springsynth.assembly.branches.add_branches`: each kind's
+    kernels called once over its rows in every slot, the slots then combined in slot order,
+    so the sums are the same, bit for bit, as adding slot after slot), then the chains
+    (:func:`_add_chains`, grouped by length and by whether they pass a falling link,
+    whatever slot they start in).
     """
     x = np.asarray(x_mm, dtype=float)
     x_max = float(np.max(x)) if x_max_mm is None else float(x_max_mm)
-    ctx = _Context.of(slots, x, x_max, detail)
-    tot = _Totals.empty(slots.n, slots.n_slots, x.size, detail)
+    ctx = Context.of(slots, x, x_max, detail)
+    tot = Totals.empty(slots.n, slots.n_slots, x.size, detail)
     in_chain = slots.in_chain if slots.has_chains else None
-    for j in range(slots.n_slots):
-        _add_slot(ctx, tot, j, None if in_chain is None else in_chain[:, j])
+    add_branches(ctx, tot, in_chain)
     if in_chain is not None:
         _add_chains(ctx, tot)
     return tot.response(x)
-
-
-# --------------------------------------------------------------------------- branches of one element
-
-def _add_slot(ctx: _Context, tot: _Totals, j: int, skip: np.ndarray | None) -> None:
-    """Every single-element branch in slot ``j`` (rows in ``skip`` hold a chain there: left out)."""
-    order, edges = ctx.slots.slot_order(j, skip)
-    empty = slice(0, edges[1])
-    for arr in (tot.f_s, tot.peak_s, tot.along_s, tot.w_s, tot.h_s, tot.mass_s) + \
-            ((tot.sr_curve_s, tot.u_s) if ctx.detail else ()):
-        arr[empty] = 0.0
-    tot.thin_s[empty] = np.inf
-    tot.ok_s[empty] = True
-    for ki in range(len(ctx.slots.kinds)):
-        blk = slice(edges[ki + 1], edges[ki + 2])
-        if blk.start != blk.stop:
-            _kind_block(ctx, tot, j, ki, blk, order[blk])
-    _gather_slot(ctx, tot, j, order)
-
-
-def _kind_block(ctx: _Context, tot: _Totals, j: int, ki: int, blk: slice, rows: np.ndarray) -> None:
-    """One kind's rows of slot ``j``: force of all copies, peak stress ratio, box, mass, margins."""
-    kind = ctx.slots.kinds[ki]
-    x, x_max = ctx.x, ctx.x_max
-    pk, sane = ctx.in_domain(ki, ctx.params_t[j][:len(kind.params), rows], ctx.slot_sane[j][rows])
-    off = ctx.offset_t[j][rows]
-    cnt = ctx.count_t[j][rows]
-    u_max = np.maximum(x_max - off, 0.0)
-    if not sane.all():   # strokes beyond _MAX_STROKE_MM too: evaluated unloaded, marked not finite
-        off = np.where(sane, off, x_max)
-        u_max = np.where(sane, u_max, 0.0)
-    p = {q.name: pk[c] for c, q in enumerate(kind.params)}
-    mat = ctx.mats_all.rows(ctx.material_t[j][rows])
-    with np.errstate(all="ignore"):
-        u = np.subtract(x[None, :], off[:, None])
-        np.copyto(u, 0.0, where=u < 0.0)    # the element's own stroke, clipped at engagement
-        engaged = u > 0.0
-        f = kind.force(p, mat, u)
-        f *= engaged
-        f = np.multiply(f, cnt[:, None], out=tot.f_s[blk])
-        peak = _peak_ratio(kind, p, mat, u_max)
-        margins = kind.validity_margins(p, mat, u_max)
-        a, c1, c2 = kind.box(p, u_max)
-        ms = kind.mass(p, mat, u_max) * cnt
-        # one reduction finds any NaN or inf in a row (a sum with one is not finite)
-        ok = np.isfinite(f.sum(axis=1) + peak + a + c1 + c2 + ms) & sane
-        if ctx.detail:
-            s = kind.stress(p, mat, u) / kind.allowable(p, mat)[:, None]
-            tot.sr_curve_s[blk] = np.where(engaged, s, 0.0)
-            tot.u_s[blk] = u
-    tot.add_margins(margins, rows, ok, first=j == 0)    # slot 0: rows still at -inf
-    tot.ok_s[blk] = ok
-    tot.peak_s[blk] = peak
-    tot.along_s[blk] = a
-    tot.w_s[blk] = cnt * np.minimum(c1, c2)
-    tot.h_s[blk] = np.maximum(c1, c2)
-    tot.mass_s[blk] = ms
-    tot.thin_s[blk] = np.inf
-    for name in ctx.thick[ki]:
-        np.minimum(tot.thin_s[blk], p[name], out=tot.thin_s[blk])
-
-
-def _peak_ratio(kind, p, mat, u_max: np.ndarray) -> np.ndarray:
-    """Peak stress / allowable over the stroke [0, u_max], shape (n,)."""
-    if kind.monotonic_stress:
-        return kind.peak_stress_ratio(p, mat, u_max[:, None])
-    grid = u_max[:, None] * np.linspace(0.0, 1.0, _STRESS_GRID)[None, :]
-    return kind.peak_stress_ratio(p, mat, grid)
-
-
-def _gather_slot(ctx: _Context, tot: _Totals, j: int, order: np.ndarray) -> None:
-    """Slot ``j``'s results (kind order) back to design order, combined with the slots before."""
-    n = ctx.slots.n
-    f_s, ok_s = tot.f_s, tot.ok_s
-    if not ok_s.all():
-        f_s[~ok_s] = 0.0
-    back = np.empty(n, dtype=np.intp)
-    back[order] = np.arange(n)              # where each design's row sits in `order`
-    if j == 0:
-        np.take(f_s, back, axis=0, out=tot.force, mode="clip")
-    else:   # in chunks of rows: no second full-size temporary
-        for c in range(0, n, _CHUNK_ROWS):
-            tot.force[c:c + _CHUNK_ROWS] += np.take(f_s, back[c:c + _CHUNK_ROWS], axis=0, mode="clip")
-    if ctx.detail:
-        tot.elem_force[:, j] = f_s[back]
-        tot.elem_stroke[:, j] = tot.u_s[back]
-        tot.elem_sr[:, j] = tot.sr_curve_s[back]
-        np.maximum(tot.sr_curve, tot.sr_curve_s[back], out=tot.sr_curve)
-    tot.finite &= ok_s[back]
-    np.maximum(tot.sr, tot.peak_s[back], out=tot.sr)
-    np.maximum(tot.along, tot.along_s[back], out=tot.along)
-    tot.stack_w += tot.w_s[back]
-    np.maximum(tot.stack_h, tot.h_s[back], out=tot.stack_h)
-    tot.mass += tot.mass_s[back]
-    np.minimum(tot.tmin, tot.thin_s[back], out=tot.tmin)
 
 
 # --------------------------------------------------------------------------- chains
@@ -386,7 +100,7 @@ def _chain_heads(slots: Slots) -> tuple[np.ndarray, np.ndarray]:
     return slots.in_chain & ~slots.link, length
 
 
-def _add_chains(ctx: _Context, tot: _Totals) -> None:
+def _add_chains(ctx: Context, tot: Totals) -> None:
     """Every chain, in groups of the same number of links, with or without a falling link, whatever
     slot each starts in (a row's second chain, if any, in a group of its own)."""
     heads, length = _chain_heads(ctx.slots)
@@ -416,7 +130,7 @@ class _Block:
     thick: list
 
 
-def _link_blocks(ctx: _Context, jj: np.ndarray, rows: np.ndarray, sane: np.ndarray) -> list[_Block]:
+def _link_blocks(ctx: Context, jj: np.ndarray, rows: np.ndarray, sane: np.ndarray) -> list[_Block]:
     """The links in slots ``jj`` (one per row) of the chains in ``rows``, one block per kind present."""
     out = []
     sl = ctx.slots
@@ -429,7 +143,7 @@ def _link_blocks(ctx: _Context, jj: np.ndarray, rows: np.ndarray, sane: np.ndarr
         s = sane[sel] & np.isfinite(cnt)
         pk, s = ctx.in_domain(ki, np.ascontiguousarray(sl.params[r, j, :len(kind.params)].T), s)
         p = {q.name: pk[c] for c, q in enumerate(kind.params)}
-        out.append(_Block(sel, kind, p, ctx.mats_all.rows(sl.material[r, j]), cnt, s, ctx.thick[ki]))
+        out.append(_Block(sel, kind, p, ctx.mats_all.rows(sl.material[r, j]), cnt, s, ctx.thick(ki)))
     return out
 
 
@@ -460,7 +174,7 @@ def _link_table(blocks: list[_Block], n: int, top_mm: np.ndarray, k_max: int, gr
     return u, F, falling, ok
 
 
-def _chain_group(ctx: _Context, tot: _Totals, j: np.ndarray, L: int, rows: np.ndarray) -> None:
+def _chain_group(ctx: Context, tot: Totals, j: np.ndarray, L: int, rows: np.ndarray) -> None:
     """Chains of ``L`` links in ``rows``, each starting in its slot ``j`` (per row): tables, loading path,
     then the links' results."""
     x, x_max = ctx.x, ctx.x_max
@@ -534,7 +248,7 @@ def _visited_max(path: ChainPath, serv: np.ndarray) -> np.ndarray:
     return np.max(np.where(reached[None], path.link_mm, 0.0), axis=2)
 
 
-def _link_results(ctx: _Context, tot: _Totals, blocks: list[_Block], rows: np.ndarray, u_max: np.ndarray,
+def _link_results(ctx: Context, tot: Totals, blocks: list[_Block], rows: np.ndarray, u_max: np.ndarray,
                   u_x: np.ndarray) -> dict:
     """Peak stress ratio, box, mass and thinnest section of one link position at its own strokes (n,).
 
@@ -548,7 +262,7 @@ def _link_results(ctx: _Context, tot: _Totals, blocks: list[_Block], rows: np.nd
     for b in blocks:
         um = np.where(b.sane, u_max[b.sel], 0.0)
         with np.errstate(all="ignore"):
-            peak = _peak_ratio(b.kind, b.p, b.mat, um)
+            peak = peak_ratio(b.kind, b.p, b.mat, um)
             a, c1, c2 = b.kind.box(b.p, um)
             ms = b.kind.mass(b.p, b.mat, um) * b.count
             ok = np.isfinite(peak + a + c1 + c2 + ms) & b.sane
@@ -556,7 +270,7 @@ def _link_results(ctx: _Context, tot: _Totals, blocks: list[_Block], rows: np.nd
                 ux = u_x[b.sel]
                 s = b.kind.stress(b.p, b.mat, ux) / b.kind.allowable(b.p, b.mat)[:, None]
                 out["curve"][b.sel] = np.where(ux > 0.0, s, 0.0)
-        tot.add_margins(b.kind.validity_margins(b.p, b.mat, um), rows[b.sel], ok, first=False)
+        tot.add_margins(b.kind.validity_margins(b.p, b.mat, um), rows[b.sel], ok)
         out["peak"][b.sel], out["a"][b.sel], out["mass"][b.sel] = peak, a, ms
         out["w"][b.sel] = b.count * np.minimum(c1, c2)
         out["h"][b.sel] = np.maximum(c1, c2)
@@ -566,7 +280,7 @@ def _link_results(ctx: _Context, tot: _Totals, blocks: list[_Block], rows: np.nd
     return out
 
 
-def _chain_totals(ctx: _Context, tot: _Totals, j: int, rows, ccount, ok, f, link_x, results) -> None:
+def _chain_totals(ctx: Context, tot: Totals, j: int, rows, ccount, ok, f, link_x, results) -> None:
     """A chain's links into the design's totals: peak stress, packing (links stack along the stroke), mass."""
     tot.finite[rows] &= ok
     tot.sr[rows] = np.maximum(tot.sr[rows], np.max([r["peak"] for r in results], axis=0))
