@@ -120,6 +120,7 @@ class Context:
     x: np.ndarray
     x_max: float
     detail: bool
+    x_sorted: bool           # x ascending (its points beyond an element's offset form a tail)
     mats_all: MaterialArrays
     domains: list
     params_f: np.ndarray     # (P, S * n)
@@ -137,7 +138,8 @@ class Context:
         with np.errstate(invalid="ignore"):
             slot_sane = np.isfinite(count_t) & (np.abs(x_max - offset_t) <= _MAX_STROKE_MM)
         params_f = np.ascontiguousarray(slots.params.transpose(2, 1, 0)).reshape(slots.params.shape[2], S * n)
-        return cls(slots, x, x_max, detail, MaterialArrays.take(slots.materials, np.arange(len(slots.materials))),
+        x_sorted = bool(np.all(x[1:] >= x[:-1]))      # False when x holds NaN
+        return cls(slots, x, x_max, detail, x_sorted, MaterialArrays.take(slots.materials, np.arange(len(slots.materials))),
                    [_domain(k) for k in slots.kinds], params_f, np.ascontiguousarray(slots.material.T).reshape(-1),
                    count_t.reshape(-1), offset_t.reshape(-1), slot_sane, slot_sane.reshape(-1))
 

@@ -124,10 +124,13 @@ def _kind_block(ctx: Context, rb: _Rows, ki: int, blk: slice, rows: np.ndarray) 
     mat = ctx.mats_all.rows(ctx.material_f[rows])
     with np.errstate(all="ignore"):
         u = np.subtract(x, off[:, None])
-        np.maximum(u, 0.0, out=u)    # the element's own stroke, clipped at engagement
-        engaged = u > 0.0
+        # the element's own stroke, clipped at engagement: only the first E columns can be (x sorted)
+        E = int(np.searchsorted(x, off.max(), side="right")) if ctx.x_sorted and off.size else x.size
+        if E:
+            np.maximum(u[:, :E], 0.0, out=u[:, :E])
         f = kind.force(p, mat, u)
-        f *= engaged
+        if E:
+            f[:, :E] *= u[:, :E] > 0.0
         f = np.multiply(f, cnt[:, None], out=rb.f[blk])
         peak = peak_ratio(kind, p, mat, u_max)
         margins = kind.validity_margins(p, mat, u_max)
@@ -137,7 +140,7 @@ def _kind_block(ctx: Context, rb: _Rows, ki: int, blk: slice, rows: np.ndarray) 
         ok = np.isfinite(f.sum(axis=1) + peak + a + c1 + c2 + ms) & sane
         if ctx.detail:
             s = kind.stress(p, mat, u) / kind.allowable(p, mat)[:, None]
-            rb.sr_curve[blk] = np.where(engaged, s, 0.0)
+            rb.sr_curve[blk] = np.where(u > 0.0, s, 0.0)
             rb.u[blk] = u
     rb.add_margins(ki, margins, rows, ok)
     rb.ok[blk] = ok
