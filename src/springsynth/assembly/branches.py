@@ -26,7 +26,7 @@ _CHUNK_ROWS = 2048
 
 @dataclass
 class _Rows:
-    """One result per (slot, design) row in kind order; ``validity`` flat over (slot, design)."""
+    """One result per (slot, design) row in kind order; the validity margins of each block as computed."""
 
     f: np.ndarray
     sr_curve: np.ndarray | None
@@ -38,14 +38,14 @@ class _Rows:
     mass: np.ndarray
     thin: np.ndarray
     ok: np.ndarray
-    validity: dict
-    names: list
+    margins: list           # (names, margins (names, rows), flat rows) per block
+    names: list             # each kind's margin names, in the order it returns them
 
     @classmethod
     def empty(cls, N: int, m: int, K: int, detail: bool) -> "_Rows":
         e = lambda: np.empty(N)  # noqa: E731
         return cls(np.empty((N, m)), np.empty((N, m)) if detail else None, np.empty((N, m)) if detail else None,
-                   e(), e(), e(), e(), e(), e(), np.empty(N, dtype=bool), {}, [[] for _ in range(K)])
+                   e(), e(), e(), e(), e(), e(), np.empty(N, dtype=bool), [], [[] for _ in range(K)])
 
     def clear(self, blk: slice) -> None:
         """Rows holding no element: nothing, inside every model."""
@@ -56,17 +56,30 @@ class _Rows:
         self.ok[blk] = True
 
     def add_margins(self, ki: int, margins: dict, rows: np.ndarray, ok: np.ndarray) -> None:
-        """Margins of kind ``ki`` at the flat ``rows``; a non-finite margin clears ``ok``."""
-        names = self.names[ki]
-        for name, g in margins.items():
-            g_ok = np.isfinite(g)
-            ok &= g_ok
-            cur = self.validity.get(name)
-            if cur is None:
-                cur = self.validity[name] = np.full(self.ok.size, -np.inf)
-            if name not in names:
-                names.append(name)
-            cur[rows] = np.where(g_ok, g, np.inf)
+        """Margins of kind ``ki`` at the flat ``rows``, kept for :meth:`validity`; a non-finite one clears ``ok``
+        (and counts as inf)."""
+        if not margins:
+            return
+        names = list(margins)
+        g = np.empty((len(names), rows.size))
+        for c, v in enumerate(margins.values()):
+            g[c] = v
+        g_ok = np.isfinite(g)
+        if not g_ok.all():
+            ok &= g_ok.all(axis=0)
+            np.copyto(g, np.inf, where=~g_ok)
+        self.margins.append((names, g, rows))
+        known = self.names[ki]
+        known += [q for q in names if q not in known]
+
+    def validity(self, order: list, S: int, n: int) -> dict:
+        """Worst margin over the slots of each design for each rule named in ``order``, each shape (n,)."""
+        index = {q: c for c, q in enumerate(order)}
+        flat = np.full((len(order), S * n), -np.inf)
+        for names, g, rows in self.margins:
+            flat[np.array([index[q] for q in names])[:, None], rows[None, :]] = g
+        worst = flat.reshape(len(order), S, n).max(axis=1)
+        return dict(zip(order, worst))
 
 
 def _kind_order(ctx: Context, skip: np.ndarray | None) -> tuple[np.ndarray, np.ndarray, np.ndarray]:
@@ -99,12 +112,11 @@ def add_branches(ctx: Context, tot: Totals, skip: np.ndarray | None) -> None:
             blk = slice(c, min(c + _KIND_ROWS, edges[ki + 2]))
             _kind_block(ctx, rb, ki, blk, order[blk])
     # margins in the order the rules first appear slot by slot, then kind by kind
-    S, n = sl.n_slots, sl.n
-    for j in range(S):
+    names: dict = {}
+    for j in range(sl.n_slots):
         for ki in np.flatnonzero(per_slot[j, 1:]):
-            for name in rb.names[ki]:
-                if name not in tot.validity:
-                    tot.validity[name] = rb.validity[name].reshape(S, n).max(axis=0)
+            names.update(dict.fromkeys(rb.names[ki]))
+    tot.validity.update(rb.validity(list(names), sl.n_slots, sl.n))
     _gather(ctx, tot, rb, order)
 
 
