@@ -401,6 +401,11 @@ class MaterialArrays:
         return _table(tuple(materials)).take(np.asarray(index, dtype=np.intp))
 
     @classmethod
+    def table(cls, materials: Sequence[Material]) -> "MaterialArrays":
+        """Properties of every one of ``materials``, row i for ``materials[i]`` (cached: read, never write)."""
+        return _table(tuple(materials)).full
+
+    @classmethod
     def of(cls, material: Material, n: int = 1) -> "MaterialArrays":
         return cls.take([material], np.zeros(n, dtype=np.intp))
 
