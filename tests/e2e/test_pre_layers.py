@@ -6,7 +6,9 @@
 after its fifth generation. The same seed must still give a byte-identical
 ``pareto.csv``, and the old checkpoint must still resume to it. Chains came later: the run
 sets ``search.max_chain=1`` (elements in parallel only, the genome of that time), and the
-old checkpoint, which has no such option, reads as parallel only by itself.
+old checkpoint, which has no such option, reads as parallel only by itself. Stock sizes and
+practical resolution came later too: the run sets ``search.stock="continuous"`` (every value free),
+and the old checkpoint reads as continuous by itself.
 """
 
 from __future__ import annotations
@@ -27,11 +29,9 @@ pytestmark = pytest.mark.slow
 
 
 def _study():
-    overrides = list(OVERRIDES)
-    try:
-        return ss.load_study(ROOT / "studies" / "latch-preload.toml", overrides=overrides)
-    except ss.InputError:   # before [search] stock existed, continuous was the only way
-        return ss.load_study(ROOT / "studies" / "latch-preload.toml", overrides=overrides[:-1])
+    st = ss.load_study(ROOT / "studies" / "latch-preload.toml", overrides=OVERRIDES)
+    assert st.search.stock == "continuous"      # stock sizes came later: the search of that time was free
+    return st
 
 
 def test_same_seed_gives_the_pareto_csv_written_before_the_move(tmp_path):

@@ -26,7 +26,7 @@ import numpy as np
 from springsynth.model.materials import MaterialArrays
 
 __all__ = ["Param", "ElementKind", "Params", "TOLERANCE_CLASSES", "FATIGUE_MODES", "FatigueLoad", "missing_declarations",
-           "DENSITY_TO_G_PER_MM3"]
+           "DENSITY_TO_G_PER_MM3", "RESOLUTIONS", "STEP_MM"]
 
 Params = Mapping[str, np.ndarray]
 
@@ -42,6 +42,19 @@ TOLERANCE_CLASSES = {
     "set_radius": "a prestressed strip's natural radius, set by forming",
     "none": "not perturbed (a choice, or a quantity the process does not scatter)",
 }
+
+#: what a parameter is made to when a study searches makeable designs (``[search] stock = "standard"``);
+#: ``Param.resolution`` gives each parameter's class (declared by ``Param.step``, else from its unit)
+RESOLUTIONS = {
+    "stock": "a size from the stock list of the element's material (``Param.stock``: wire or strip)",
+    "length": "a length to 0.1 mm (a drawing's practical resolution)",
+    "fine": "a machined feature to 0.01 mm (wire EDM, grinding)",
+    "offset": "a displacement set at assembly (a gap, a preload, a formed rise) to the study's offset_step_mm",
+    "coils": "a quarter turn (active coils)",
+    "free": "not rounded (a choice, a whole number, a force, a ratio)",
+}
+#: step of each fixed resolution class, mm (coils: turns); ``offset`` reads the study's offset_step_mm
+STEP_MM = {"length": 0.1, "fine": 0.01, "coils": 0.25}
 
 #: what a kind's fatigue check reads (``ElementKind.fatigue``); the criterion of each is in
 #: :mod:`springsynth.checks.fatigue` (``CRITERIA``)
@@ -106,6 +119,13 @@ class Param:
     tolerance : str
         Its manufacturing tolerance class, a key of :data:`TOLERANCE_CLASSES` (the tolerance
         analysis maps the class and the material to a process and its tolerance).
+    stock : str
+        ``"wire"`` or ``"strip"``: a wire diameter or strip (sheet, plate) thickness bought in stock
+        sizes; with ``stock = "standard"`` the search takes it from the material's stock list.
+    step : str
+        Its resolution class (a key of :data:`RESOLUTIONS`) where the default does not fit; by
+        default ``stock`` for a stock size, ``length`` for a parameter in mm, ``coils`` for a
+        number of coils, ``free`` otherwise.
     """
 
     name: str
@@ -118,6 +138,21 @@ class Param:
     thickness: bool = False
     doc: str = ""
     tolerance: str = ""
+    stock: str = ""
+    step: str = ""
+
+    @property
+    def resolution(self) -> str:
+        """Its resolution class, a key of :data:`RESOLUTIONS`."""
+        if self.step:
+            return self.step
+        if self.stock:
+            return "stock"
+        if self.choices or self.integer:
+            return "free"
+        if self.unit == "mm":
+            return "length"
+        return "coils" if self.tolerance == "coils" else "free"
 
     def __post_init__(self):
         if self.choices:
@@ -335,6 +370,9 @@ def missing_declarations(kind: ElementKind) -> list[str]:
     if not kind.sources:
         out.append("sources")
     out += [f"{q.name}.tolerance" for q in kind.params if q.tolerance not in TOLERANCE_CLASSES]
+    out += [f"{q.name}.stock (wire or strip)" for q in kind.params if q.stock not in ("", "wire", "strip")]
+    out += [f"{q.name}.step (one of {', '.join(RESOLUTIONS)})" for q in kind.params
+            if q.step and q.step not in RESOLUTIONS]
     if kind.fatigue not in FATIGUE_MODES:
         out.append(f"fatigue (one of {', '.join(FATIGUE_MODES)})")
     return out

@@ -438,8 +438,10 @@ KIND = Arch(
     params=(
         Param("length_mm", "mm", 5.0, 200.0, log=True, doc="span l between the clamps", tolerance="linear"),
         Param("width_mm", "mm", 0.5, 50.0, log=True, doc="beam width b", tolerance="width"),
-        Param("thickness_mm", "mm", 0.02, 5.0, log=True, thickness=True, doc="beam thickness t (bending direction)", tolerance="strip"),
-        Param("rise_mm", "mm", 0.05, 20.0, log=True, doc="as-made mid-span rise h", tolerance="linear"),
+        Param("thickness_mm", "mm", 0.02, 5.0, log=True, thickness=True, doc="beam thickness t (bending direction)", tolerance="strip",
+              stock="strip"),
+        Param("rise_mm", "mm", 0.05, 20.0, log=True, doc="as-made mid-span rise h", tolerance="linear",
+              step="offset"),
     ),
     forms=("strip",),
     validity=(

@@ -67,7 +67,8 @@ KIND = BladeCantilever(
     params=(
         Param("length_mm", "mm", 2.0, 200.0, log=True, doc="free length from the clamp to the loaded tip", tolerance="linear"),
         Param("width_mm", "mm", 0.5, 50.0, log=True, doc="blade width, across the bending plane", tolerance="width"),
-        Param("thickness_mm", "mm", 0.02, 5.0, log=True, thickness=True, doc="blade thickness, in the bending direction", tolerance="strip"),
+        Param("thickness_mm", "mm", 0.02, 5.0, log=True, thickness=True, doc="blade thickness, in the bending direction", tolerance="strip",
+              stock="strip"),
     ),
     forms=("strip",),
     validity=f"elastic; stroke u <= {STROKE_LIMIT:g} L; slenderness L/t >= {_elastica.SLENDERNESS_MIN:g}; "

@@ -578,7 +578,8 @@ KIND = BladeClamped(
     params=(
         Param("length_mm", "mm", 5.0, 200.0, log=True, doc="span L between the clamps", tolerance="linear"),
         Param("width_mm", "mm", 0.5, 50.0, log=True, doc="blade width b", tolerance="width"),
-        Param("thickness_mm", "mm", 0.02, 5.0, log=True, thickness=True, doc="blade thickness t (bending direction)", tolerance="strip"),
+        Param("thickness_mm", "mm", 0.02, 5.0, log=True, thickness=True, doc="blade thickness t (bending direction)", tolerance="strip",
+              stock="strip"),
     ),
     forms=("strip",),
     validity=(

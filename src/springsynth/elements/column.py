@@ -121,8 +121,10 @@ KIND = Column(
     params=(
         Param("length_mm", "mm", 5.0, 200.0, log=True, doc="span between the ends (chord)", tolerance="linear"),
         Param("width_mm", "mm", 0.5, 50.0, log=True, doc="width, across the bending plane", tolerance="width"),
-        Param("thickness_mm", "mm", 0.02, 5.0, log=True, thickness=True, doc="thickness, in the bending direction", tolerance="strip"),
-        Param("rise_mm", "mm", 0.0, 20.0, doc="mid-span amplitude of the initial shape (0 = straight)", tolerance="linear"),
+        Param("thickness_mm", "mm", 0.02, 5.0, log=True, thickness=True, doc="thickness, in the bending direction", tolerance="strip",
+              stock="strip"),
+        Param("rise_mm", "mm", 0.0, 20.0, doc="mid-span amplitude of the initial shape (0 = straight)", tolerance="linear",
+              step="offset"),
         Param("ends", "-", 0.0, 1.0, choices=("pinned", "clamped"),
               doc="end conditions; initial shape half-sine (pinned) or (1 - cos 2 pi x/L)/2 (clamped)", tolerance="none"),
     ),

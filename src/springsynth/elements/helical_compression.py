@@ -218,7 +218,7 @@ class HelicalCompression(ElementKind):
 
 #: search coordinates shared by the coil springs: wire, index within its recommended range, coils
 COIL_SEARCH = (
-    Param("wire_diameter_mm", "mm", 0.1, 6.0, log=True, thickness=True),
+    Param("wire_diameter_mm", "mm", 0.1, 6.0, log=True, thickness=True, stock="wire"),
     Param("spring_index", "-", INDEX_MIN, INDEX_MAX),
     Param("active_coils", "-", ACTIVE_COILS_MIN, 40.0, log=True),
 )
@@ -232,7 +232,8 @@ KIND = HelicalCompression(
     fatigue="torsion",
     title="helical compression spring, round wire, squared-and-ground ends; linear rate",
     params=(
-        Param("wire_diameter_mm", "mm", 0.1, 6.0, log=True, thickness=True, doc="wire diameter d", tolerance="wire"),
+        Param("wire_diameter_mm", "mm", 0.1, 6.0, log=True, thickness=True, doc="wire diameter d", tolerance="wire",
+              stock="wire"),
         Param("mean_diameter_mm", "mm", 1.0, 60.0, log=True, doc="mean coil diameter D", tolerance="coiling"),
         Param("active_coils", "-", 2.0, 40.0, log=True, doc="active coils Na (total Na + 2)", tolerance="coils"),
         Param("free_length_mm", "mm", 2.0, 300.0, log=True, doc="free length L0", tolerance="coiling"),

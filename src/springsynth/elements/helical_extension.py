@@ -246,7 +246,8 @@ KIND = HelicalExtension(
     fatigue="torsion",
     title="helical extension spring, round wire, full-loop hooks; initial tension plus linear rate",
     params=(
-        Param("wire_diameter_mm", "mm", 0.1, 6.0, log=True, thickness=True, doc="wire diameter d", tolerance="wire"),
+        Param("wire_diameter_mm", "mm", 0.1, 6.0, log=True, thickness=True, doc="wire diameter d", tolerance="wire",
+              stock="wire"),
         Param("mean_diameter_mm", "mm", 1.0, 60.0, log=True, doc="mean coil diameter D", tolerance="coiling"),
         Param("active_coils", "-", 2.0, 40.0, log=True, doc="active coils Na = body coils + G/E", tolerance="coils"),
         Param("initial_tension_N", "N", 0.01, 200.0, log=True, doc="initial tension Fi", tolerance="tension"),

@@ -231,8 +231,9 @@ class NotchParallelogram(ElementKind):
 # the neck and the cut-outs are machined (wire EDM, milling): tolerance class "linear"; b is the plate's
 _PARAMS = (
     Param("length_mm", "mm", 3.0, 200.0, log=True, tolerance="linear", doc="distance between the hinge centres of a link"),
-    Param("width_mm", "mm", 0.5, 50.0, log=True, tolerance="strip", doc="plate thickness b (out of the plane of motion)"),
-    Param("thickness_mm", "mm", 0.02, 5.0, log=True, thickness=True, tolerance="linear",
+    Param("width_mm", "mm", 0.5, 50.0, log=True, tolerance="strip", stock="strip",
+          doc="plate thickness b (out of the plane of motion)"),
+    Param("thickness_mm", "mm", 0.02, 5.0, log=True, thickness=True, tolerance="linear", step="fine",
           doc="neck thickness t of each hinge"),
     Param("notch_radius_mm", "mm", 0.2, 100.0, log=True, tolerance="linear", doc="radius R of the two cut-outs of each hinge"),
 )

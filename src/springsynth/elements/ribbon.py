@@ -144,7 +144,8 @@ KIND = Ribbon(
     title="prestressed rolled ribbon on a drum (constant-force spring), plateau after a short ramp",
     params=(
         Param("width_mm", "mm", 2.0, 50.0, log=True, doc="strip width b", tolerance="width"),
-        Param("thickness_mm", "mm", 0.02, 1.0, log=True, thickness=True, doc="strip thickness t", tolerance="strip"),
+        Param("thickness_mm", "mm", 0.02, 1.0, log=True, thickness=True, doc="strip thickness t", tolerance="strip",
+              stock="strip"),
         Param("natural_radius_mm", "mm", 2.0, 100.0, log=True, doc="natural (free) inside radius R_n of the coil", tolerance="set_radius"),
     ),
     forms=("strip",),

@@ -83,7 +83,8 @@ KIND = WireGuided(
     title="round-wire flexure, far end guided, large deflection; near-linear, mild stiffening",
     params=(
         Param("length_mm", "mm", 2.0, 200.0, log=True, doc="free length of the wire between clamp and guided end", tolerance="linear"),
-        Param("wire_diameter_mm", "mm", 0.05, 5.0, log=True, thickness=True, doc="wire diameter", tolerance="wire"),
+        Param("wire_diameter_mm", "mm", 0.05, 5.0, log=True, thickness=True, doc="wire diameter", tolerance="wire",
+              stock="wire"),
     ),
     forms=("wire",),
     validity=f"elastic; stroke u <= {STROKE_LIMIT:g} L; slenderness L/d >= {_elastica.SLENDERNESS_MIN:g}; "

@@ -3,7 +3,8 @@
 Tables and keys (``_SCHEMA`` below; defaults in :data:`springsynth.model.study.DEFAULTS`,
 examples in ``studies/*.toml``): ``name``, ``description``, ``[target] file`` (a target CSV,
 relative to the study), ``[envelope]`` the box, ``[limits]``, ``[search]`` (element kinds,
-materials, budget, options) and ``[materials.<id>]`` for materials defined inline.
+materials, budget, options), ``[stock]`` the study's own stock sizes and ``[materials.<id>]`` for
+materials defined inline.
 """
 
 from __future__ import annotations
@@ -22,7 +23,19 @@ from springsynth.io.target_csv import load_target
 from springsynth.model.errors import InputError
 from springsynth.model.materials import Material
 from springsynth.model.numbers import is_finite_number
-from springsynth.model.study import BASE_OBJECTIVES, DEFAULTS, OBJECTIVES, Duty, Envelope, Limits, SearchOptions, Study
+from springsynth.model.study import (
+    BASE_OBJECTIVES,
+    DEFAULTS,
+    OBJECTIVES,
+    STOCK_MODES,
+    Duty,
+    Envelope,
+    Limits,
+    SearchOptions,
+    StockSizes,
+    Study,
+)
+from springsynth.search.stock import check_stock
 from springsynth.model.suggest import unknown_key_message
 from springsynth.model.target import Target
 
@@ -37,9 +50,12 @@ _SCHEMA: dict[str, set[str] | None] = {
     "envelope": {"length_mm", "width_mm", "height_mm"},
     "limits": {"stress_ratio", "min_thickness_mm", "max_mass_g", "max_error_pct", "fatigue_ratio"},
     "search": {"elements", "materials", "max_elements", "max_chain", "max_count", "population", "generations", "seed",
-               "polish", "verify_top", "robust", "objectives"},
-    "materials": None, "duty": DUTY_KEYS,
+               "polish", "verify_top", "robust", "objectives", "stock", "offset_step_mm"},
+    "materials": None, "duty": DUTY_KEYS, "stock": {"wire_mm", "strip_mm"},
 }
+
+#: coarsest grid of gaps and preloads accepted (a coarser one is a typo, not a resolution)
+MAX_OFFSET_STEP_MM = 10.0
 
 
 #: most elements (chain links included) a searched design may have
@@ -72,9 +88,15 @@ def study_from_mapping(doc: Mapping[str, Any], *, where: str, base_dir: Path) ->
     target = _target(doc["target"], tpath, where)
     search = _search(doc.get("search", {}), resolve_materials(doc.get("materials"), where), where)
     duty = _duty(doc, search, target.stroke_mm, where)
-    return Study(name=name, target=target, envelope=_envelope(doc["envelope"], where),
-                 limits=_limits(doc.get("limits", {}), where), search=search,
-                 raw=copy.deepcopy(dict(doc)), path=None, target_path=tpath, duty=duty)
+    study = Study(name=name, target=target, envelope=_envelope(doc["envelope"], where),
+                  limits=_limits(doc.get("limits", {}), where), search=search,
+                  raw=copy.deepcopy(dict(doc)), path=None, target_path=tpath, duty=duty,
+                  stock=_stock(doc.get("stock", {}), search, where))
+    try:
+        check_stock(study)
+    except InputError as e:
+        raise InputError(str(e)[len(e.where) + 2:] if e.where else str(e), where=f"{where} [search]") from None
+    return study
 
 
 def _duty(doc: Mapping[str, Any], search: SearchOptions, stroke_mm: float, where: str) -> Duty | None:
@@ -199,7 +221,8 @@ def _search(given: Mapping[str, Any], mats: Mapping[str, Material], where: str) 
         population=whole("population", 4, 100_000), generations=whole("generations", 1, 100_000),
         seed=whole("seed", 0, 2**32 - 1), polish=_bool(s["polish"], at + "polish"),
         verify_top=whole("verify_top", 0, 100_000), robust=_bool(s["robust"], at + "robust"),
-        objectives=_objectives(s["objectives"], at + "objectives"),
+        objectives=_objectives(s["objectives"], at + "objectives"), stock=_stock_mode(s["stock"], at + "stock"),
+        offset_step_mm=_num(s["offset_step_mm"], at + "offset_step_mm", lo=0.0, hi=MAX_OFFSET_STEP_MM),
     )
     if opts.max_elements > _MAX_SLOTS:
         raise InputError(f"max_elements must be at most {_MAX_SLOTS}, got {opts.max_elements}", where=f"{where} [search]")
@@ -225,6 +248,39 @@ def _objectives(v: Any, where: str) -> tuple[str, ...]:
         raise InputError(f"must include {', '.join(BASE_OBJECTIVES)} (missing {', '.join(missing)}); "
                          f"it may add {', '.join(o for o in OBJECTIVES if o not in BASE_OBJECTIVES)}", where=where)
     return BASE_OBJECTIVES + tuple(o for o in OBJECTIVES if o in v and o not in BASE_OBJECTIVES)
+
+
+def _stock_mode(v: Any, where: str) -> str:
+    if v not in STOCK_MODES:
+        raise InputError(f'must be "standard" (stock sizes, practical resolution) or "continuous" (every value '
+                         f'free), got {v!r}', where=where)
+    return v
+
+
+def _stock(given: Mapping[str, Any], search: SearchOptions, where: str) -> StockSizes:
+    """The study's own stock sizes: each list positive, without repeats, and inside the range of some
+    searched parameter that takes sizes of its form (sorted here)."""
+    out = {}
+    for key in ("wire_mm", "strip_mm"):
+        if key not in given:
+            continue
+        at, form = f"{where} [stock].{key}", key[:-3]
+        v = given[key]
+        if isinstance(v, tuple):
+            v = list(v)
+        if not isinstance(v, list) or not v:
+            raise InputError(f"must be a non-empty list of sizes in mm, got {v!r}", where=at)
+        sizes = sorted(float(_num(x, at, lo=0.0)) for x in v)
+        twice = sorted({x for x in sizes if sizes.count(x) > 1})
+        if twice:
+            raise InputError(f"lists {', '.join(f'{x:g}' for x in twice)} mm twice; give each size once", where=at)
+        params = [(k.name, q) for k in search.kinds for q in k.params if q.stock == form]
+        for x in sizes:
+            if params and not any(q.lo <= x <= q.hi for _, q in params):
+                ranges = ", ".join(f"{n}.{q.name} {q.lo:g} to {q.hi:g} mm" for n, q in params)
+                raise InputError(f"{x:g} mm lies outside every searched {form} size ({ranges})", where=at)
+        out[key] = tuple(sizes)
+    return StockSizes(**out)
 
 
 def _bool(v: Any, where: str) -> bool:

@@ -22,13 +22,15 @@ from springsynth.model.target import Target
 if TYPE_CHECKING:   # the kinds are elements (the layer above); a study only holds them
     from springsynth.elements import ElementKind
 
-__all__ = ["Envelope", "Limits", "SearchOptions", "Duty", "Study", "DEFAULTS", "OBJECTIVES", "BASE_OBJECTIVES",
-           "curve_grid"]
+__all__ = ["Envelope", "Limits", "SearchOptions", "StockSizes", "Duty", "Study", "DEFAULTS", "OBJECTIVES",
+           "BASE_OBJECTIVES", "STOCK_MODES", "curve_grid"]
 
 #: objectives every search minimises, in this order (the first three columns of ``Scores.F``)
 BASE_OBJECTIVES = ("curve_error_pct", "stress_ratio", "size_mm3")
 #: every objective a study may name in ``[search] objectives`` (the base three, then optional ones)
 OBJECTIVES = BASE_OBJECTIVES + ("fatigue_ratio",)
+#: values of ``[search] stock``: sizes from the stock lists and practical resolution, or every value free
+STOCK_MODES = ("standard", "continuous")
 #: most cycles a duty may ask for (no fatigue data reach further)
 MAX_CYCLES = 1e12
 
@@ -77,12 +79,18 @@ class SearchOptions:
     robust: bool = False
     #: objectives minimised: the base three, then any of the optional ones (``OBJECTIVES``)
     objectives: tuple[str, ...] = BASE_OBJECTIVES
+    #: "standard": wire diameters and strip thicknesses from the stock lists, lengths to 0.1 mm, coils to a
+    #: quarter turn, gaps and preloads to ``offset_step_mm``; "continuous": every value free
+    stock: str = "standard"
+    #: grid of gaps, preloads and formed rises under ``stock = "standard"``, mm
+    offset_step_mm: float = 0.05
 
     def __setstate__(self, state: dict) -> None:
         """Unpickle (a checkpoint), filling options added since it was written: a search from before
         chains existed searched elements in parallel only (``max_chain = 1``)."""
         state = dict(state)
         state.setdefault("max_chain", 1)
+        state.setdefault("stock", "continuous")     # before stock sizes, every value was free
         for f in fields(self):
             if f.name not in state and f.default is not MISSING:
                 state[f.name] = f.default
@@ -92,6 +100,17 @@ class SearchOptions:
     def links_per_chain(self) -> int:
         """Links a chain may have in this search: ``max_chain``, at most ``max_elements``."""
         return max(1, min(self.max_chain, self.max_elements))
+
+
+@dataclass(frozen=True)
+class StockSizes:
+    """The ``[stock]`` table: a study's own stock sizes, mm, ascending (empty: the shipped lists).
+
+    A list given replaces the shipped lists of its form for every material (what the designer's
+    supplier holds)."""
+
+    wire_mm: tuple[float, ...] = ()
+    strip_mm: tuple[float, ...] = ()
 
 
 @dataclass(frozen=True)
@@ -165,6 +184,8 @@ class Study:
     target_path: Path | None = None
     #: the duty the designs must survive (its stroke resolved against the target), or None: static only
     duty: Duty | None = None
+    #: the study's own stock sizes (``[stock]``)
+    stock: StockSizes = StockSizes()
 
     def hash(self) -> str:
         """SHA-256 of the study's content and its target file's bytes (first 16 hex digits)."""
@@ -181,7 +202,7 @@ def _defaults(cls) -> dict[str, Any]:
 
 #: every optional key of [limits], [search] and [duty] with its default (from the dataclasses above)
 DEFAULTS: dict[str, dict[str, Any]] = {"limits": _defaults(Limits), "search": _defaults(SearchOptions),
-                                       "duty": _defaults(Duty)}
+                                       "duty": _defaults(Duty), "stock": _defaults(StockSizes)}
 
 
 def curve_grid(study: Study, points: int = 101) -> np.ndarray:

@@ -11,7 +11,10 @@ gene        type       meaning
 2           integer    count of identical copies, 1 .. max_count
 3           real       offset / stroke, in [OFFSET_LO, OFFSET_HI] (< 0 preload, > 0 gap)
 4..         real       the kind's parameters, each mapped from [0, 1] onto its bounds
-                       (log scale where ``Param.log``; whole numbers and choices by rounding)
+                       (log scale where ``Param.log``; whole numbers and choices by rounding;
+                       under ``stock = "standard"`` a stock size is entry floor(z n) of the n sizes
+                       of the element's material, and every value is rounded to its resolution:
+                       :mod:`springsynth.search.stock`)
 4+n_params  category   (chains only) 1: this slot is a link in series with the slot before
                        (its chain continues), 0: a new branch (slot 0 always 0)
 ==========  =========  ==========================================================
@@ -32,6 +35,7 @@ import numpy as np
 from springsynth.assembly.design import Chain, Design, Element
 from springsynth.assembly.slots import Slots
 from springsynth.model.study import Study
+from springsynth.search.stock import check_stock
 
 __all__ = ["Encoding", "OFFSET_LO", "OFFSET_HI"]
 
@@ -72,9 +76,11 @@ class Encoding:
                 self.param_log[i, j] = q.log
                 self.param_integer[i, j] = q.integer
                 self.param_choices[i, j] = len(q.choices)
-        # materials that suit each kind, as indices into self.materials
-        self.suitable = [np.array([m for m, mat in enumerate(self.materials) if mat.suits(k.forms)], dtype=np.intp)
-                         for k in self.kinds]
+        #: stock sizes and resolution (None: every value free, ``stock = "continuous"``)
+        self.stock_plan = check_stock(study)
+        # materials that suit each kind (and, with stock sizes, have one that fits), as indices into self.materials
+        self.suitable = [np.array([m for m, mat in enumerate(self.materials) if mat.suits(k.forms)
+                                   and self._has_stock(i, m)], dtype=np.intp) for i, k in enumerate(self.kinds)]
         chain_gene = [0.0] if self.link_gene else []
         xl, xu = [], []
         for slot in range(self.n_slots):
@@ -91,18 +97,34 @@ class Encoding:
     def n_var(self) -> int:
         return self.n_slots * self.genes_per_slot
 
+    def _has_stock(self, k: int, m: int) -> bool:
+        usable = None if self.stock_plan is None else self.stock_plan.usable(k)
+        return usable is None or bool(usable[m])
+
+    def stock_gene(self, k: int, j: int) -> bool:
+        """Search parameter ``j`` of kind ``k`` is a stock size (a discrete gene the polish keeps)."""
+        return self.stock_plan is not None and bool(self.stock_plan.stock_gene[k, j])
+
     # ------------------------------------------------------------------ decode
-    def values(self, k: int, z: np.ndarray) -> np.ndarray:
-        """Parameter values of kind ``k`` (in ``kind.params`` order) from unit genes ``z`` (n, P)."""
+    def values(self, k: int, z: np.ndarray, mat: np.ndarray | None = None, *, snap: bool = True) -> np.ndarray:
+        """Parameter values of kind ``k`` (in ``kind.params`` order) from unit genes ``z`` (n, P).
+
+        ``mat`` (n,): material indices of the rows (into ``self.materials``), needed for stock sizes;
+        ``snap=False`` leaves lengths, coils and rises unrounded (the polish's inner steps).
+        """
         kind = self.kinds[k]
         q = self._search_values(k, z)
+        plan = self.stock_plan
+        if plan is not None:
+            for j in np.flatnonzero(plan.stock_gene[k]):
+                q[:, j] = plan.pick(k, j, z[:, j], mat)
         if kind.search_params is kind.params:
-            return q
+            return plan.snap(kind, k, q) if plan is not None and snap else q
         p = kind.from_search({sp.name: q[:, j] for j, sp in enumerate(kind.search_params)})
         out = np.zeros_like(q)
         for j, par in enumerate(kind.params):
             out[:, j] = p[par.name]
-        return out
+        return plan.snap(kind, k, out) if plan is not None and snap else out
 
     def _search_values(self, k: int, z: np.ndarray) -> np.ndarray:
         lo, hi = self.param_lo[k], self.param_hi[k]
@@ -115,7 +137,13 @@ class Encoding:
             v = np.where(ch, np.minimum(np.floor(z * self.param_choices[k]), self.param_choices[k] - 1), v)
         return v
 
-    def decode(self, X: np.ndarray) -> Slots:
+    def decode(self, X: np.ndarray, *, snap: bool = True) -> Slots:
+        """The designs of genome rows ``X`` (n, n_var) as :class:`Slots`.
+
+        Under ``stock = "standard"`` every value is rounded to its resolution here, before any evaluation;
+        ``snap=False`` leaves the continuous values unrounded (stock sizes stay stock sizes): the polish's
+        inner steps, whose result is rounded and evaluated again.
+        """
         X = np.atleast_2d(X)
         n = X.shape[0]
         kind = np.full((n, self.n_slots), -1, dtype=np.intp)
@@ -129,12 +157,14 @@ class Encoding:
                 if k < 0:
                     continue
                 rows = np.flatnonzero(kg == k)
-                params[rows, s] = self.values(k, X[rows, base + 4: base + 4 + self.n_params])
                 suit = self.suitable[k]
                 pick = np.minimum((X[rows, base + 1] * len(suit)).astype(np.intp), len(suit) - 1)
                 mat[rows, s] = suit[pick]
+                params[rows, s] = self.values(k, X[rows, base + 4: base + 4 + self.n_params], suit[pick], snap=snap)
         count = np.round(X[:, 2::self.genes_per_slot]).clip(1, None)
         offset = X[:, 3::self.genes_per_slot] * self.stroke_mm
+        if self.stock_plan is not None and snap:
+            offset = self.stock_plan.snap_offset(offset)
         if not self.link_gene:
             return Slots(kind, mat, count, offset, params, self.kinds, self.materials)
         link = self.links(X, kind)
@@ -206,8 +236,9 @@ class Encoding:
         k = [q.name for q in self.kinds].index(e.kind)
         suit = list(self.suitable[k])
         base = slot * self.genes_per_slot
+        m = [q.id for q in self.materials].index(e.material)
         row[base] = k + 1
-        row[base + 1] = (suit.index([m.id for m in self.materials].index(e.material)) + 0.5) / len(suit)
+        row[base + 1] = (suit.index(m) + 0.5) / len(suit)
         row[base + 2] = count
         row[base + 3] = offset_mm / self.stroke_mm
         if self.link_gene:
@@ -218,7 +249,9 @@ class Encoding:
             vals = {n: float(np.ravel(v)[0]) for n, v in kind.to_search({n: np.array([v]) for n, v in vals.items()}).items()}
         for j, q in enumerate(kind.search_params):
             v, lo, hi = vals[q.name], self.param_lo[k, j], self.param_hi[k, j]
-            if q.choices:
+            if self.stock_gene(k, j):
+                z = self.stock_plan.gene(k, j, v, m)
+            elif q.choices:
                 z = (v + 0.5) / len(q.choices)
             elif hi <= lo:
                 z = 0.0
@@ -235,6 +268,7 @@ class Encoding:
         self.__dict__.setdefault("max_chain", 1)
         self.__dict__.setdefault("link_gene", False)
         self.__dict__.setdefault("falling", np.array([not k.monotonic_force for k in self.kinds] + [False]))
+        self.__dict__.setdefault("stock_plan", None)     # before stock sizes: every value free
 
 
 def _factor_counts(count: np.ndarray, link: np.ndarray) -> tuple[np.ndarray, np.ndarray]:

@@ -44,7 +44,10 @@ def polish_designs(study: Study, enc: Encoding, X: np.ndarray, sc: Scores, *, ma
     materials, counts, whole-number and categorical parameters stay fixed. The
     Jacobian is taken by forward differences. Every design's solver runs in lockstep
     with the others (:class:`_Lockstep`): all the points they ask for at one step are
-    evaluated in one population call.
+    evaluated in one population call. Under ``stock = "standard"`` the stock sizes stay fixed
+    and the other genes are polished unrounded; the result is rounded to its resolution (the
+    decode does it) and evaluated again, and kept only if that rounded design is still
+    feasible and better.
 
     Returns
     -------
@@ -61,7 +64,7 @@ def polish_designs(study: Study, enc: Encoding, X: np.ndarray, sc: Scores, *, ma
     def residuals(blocks: list[np.ndarray]) -> list[np.ndarray]:
         """Residuals of each block of genomes, shape (rows, m + constraints), from one model call."""
         edges = np.cumsum([len(b) for b in blocks])[:-1]
-        slots = enc.decode(np.vstack(blocks))
+        slots = enc.decode(np.vstack(blocks), snap=False)   # unrounded: rounded once, below, and evaluated again
         r = evaluate_population(slots, t.x_mm, x_max_mm=t.stroke_mm)
         with np.errstate(all="ignore"):
             # the curve error block by block: the last bits of a matrix product depend on its number
@@ -242,7 +245,7 @@ def _summary(study, enc, X, sc, kept, gains, repaired, lock: _Lockstep):
 
 
 def _free_genes(enc: Encoding, x: np.ndarray) -> np.ndarray:
-    """Indices of the continuous genes of the occupied slots (offset and real-valued dimensions)."""
+    """Indices of the continuous genes of the occupied slots (offset and real-valued dimensions, not stock sizes)."""
     out = []
     link = enc.links(x[None, :])[0]
     for s in range(enc.n_slots):
@@ -253,6 +256,6 @@ def _free_genes(enc: Encoding, x: np.ndarray) -> np.ndarray:
         if not link[s]:         # a chain's offset is its first slot's
             out.append(b + 3)
         for j in range(enc.n_search_params[k]):
-            if not enc.param_integer[k, j] and enc.param_choices[k, j] == 0:
+            if not enc.param_integer[k, j] and enc.param_choices[k, j] == 0 and not enc.stock_gene(k, j):
                 out.append(b + 4 + j)
     return np.array(out, dtype=np.intp)
