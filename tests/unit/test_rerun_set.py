@@ -69,6 +69,10 @@ CASES = {
     "search.polish": ("true", lambda st: st.search.polish, True, ()),
     "search.verify_top": ("2", lambda st: st.search.verify_top, 2, ()),
     "search.robust": ("true", lambda st: st.search.robust, True, ()),
+    "search.stock": ('"continuous"', lambda st: st.search.stock, "continuous", ()),
+    "search.offset_step_mm": ("0.1", lambda st: st.search.offset_step_mm, 0.1, ()),
+    "stock.wire_mm": ("[0.5, 1.0, 0.8]", lambda st: st.stock.wire_mm, (0.5, 0.8, 1.0), ()),
+    "stock.strip_mm": ("[0.2, 0.1, 0.3]", lambda st: st.stock.strip_mm, (0.1, 0.2, 0.3), ()),
     "limits.fatigue_ratio": ("0.7", lambda st: st.limits.fatigue_ratio, 0.7, ("duty.cycles=1e6",)),
     "search.objectives": ('["curve_error_pct", "stress_ratio", "size_mm3", "fatigue_ratio"]',
                           lambda st: st.search.objectives,
@@ -147,6 +151,9 @@ def test_rerun_budget_options_pass_through(parent, captured, tmp_path):
     ("search.population=2.5", ["population", "2.5"]),
     ('search.elements=["blade_guidd"]', ["blade_guidd"]),
     ("duty.cycels=1e6", ["did you mean 'cycles'"]),
+    ('search.stock="std"', ["[search].stock", "'std'"]),
+    ("stock.wire_mm=[0.5, 0.5]", ["[stock].wire_mm", "0.5 mm twice"]),
+    ("stock.wire=[1.0]", ["did you mean 'wire_mm'"]),
     ("duty.stroke_max_mm=60", ["stroke_max_mm = 60", "beyond the target's last point"]),
 ])
 def test_malformed_set_is_one_line(parent, tmp_path, setting, words):
