@@ -35,9 +35,9 @@ from springsynth.model.study import (
     StockSizes,
     Study,
 )
-from springsynth.search.stock import check_stock
 from springsynth.model.suggest import unknown_key_message
 from springsynth.model.target import Target
+from springsynth.search.stock import check_stock
 
 __all__ = ["load_study", "study_from_mapping", "apply_overrides"]
 
