@@ -188,7 +188,7 @@ def elements(fmt: Fmt = typer.Option(Fmt.table, "--format", help="table or csv")
         for q in k.params:
             rng = " | ".join(q.choices) if q.choices else f"{q.lo:g} .. {q.hi:g}"
             rows.append({"kind": k.name, "parameter": q.name, "unit": q.unit, "range": rng, "scale": "log" if q.log else "lin",
-                         "forms": " ".join(k.forms), "validity": k.validity, "design_rules": " ".join(sorted(k.design_rules)),
+                         "made_to": q.made_to, "forms": " ".join(k.forms), "validity": k.validity, "design_rules": " ".join(sorted(k.design_rules)),
                          "sources": "; ".join(k.sources)})
     if fmt == Fmt.csv:
         import pandas as pd

@@ -154,6 +154,18 @@ class Param:
             return "length"
         return "coils" if self.tolerance == "coils" else "free"
 
+    @property
+    def made_to(self) -> str:
+        """Its resolution in words (``strip stock``, ``0.1 mm``, ``a quarter turn``, ``offset grid``, ``free``)."""
+        r = self.resolution
+        if r == "stock":
+            return f"{self.stock} stock"
+        if r == "offset":
+            return "offset grid"
+        if r == "coils":
+            return "a quarter turn"
+        return f"{STEP_MM[r]:g} mm" if r in STEP_MM else "free"
+
     def __post_init__(self):
         if self.choices:
             object.__setattr__(self, "lo", 0.0)

@@ -51,7 +51,8 @@ def kind_sections(kinds: Iterable[ElementKind]) -> list:
             t.add_row(q.name, q.unit, " | ".join(q.choices) if q.choices else f"{q.lo:g} .. {q.hi:g}",
                       "log" if q.log else "lin", q.doc)
         out.append(t)
-        notes = [f"made from: {' or '.join(k.forms)} material; stroke: {k.stroke_note}", f"valid: {k.validity}"]
+        notes = [f"made from: {' or '.join(k.forms)} material; stroke: {k.stroke_note}", f"valid: {k.validity}",
+                 "made to (stock = \"standard\"): " + "; ".join(f"{q.name} {q.made_to}" for q in k.params)]
         if k.design_rules:
             notes.append(f"design rules (a notice when broken, the model still holds): {', '.join(sorted(k.design_rules))}")
         notes += [f"stress: {k.stress_note}"] * bool(k.stress_note) + [f"fatigue under a [duty]: {CRITERIA[k.fatigue]}"]
