@@ -109,6 +109,11 @@ HOMOGENEOUS_BULK = 1.3615
 BULK_ASPECT = 0.0980
 #: factor on the bulk modulus inside alpha^2 (fitted; 1 = plain layer equation)
 BULK_SCALE = 0.9401
+#: width the bulge adds to the loaded plan as it rolls onto the plates, in thicknesses at
+#: S eps = 1 (fitted)
+ROLL_SCALE = 0.0
+#: growth of the rolled-on width with S eps (fitted)
+ROLL_POWER = 3.0
 
 #: largest shape factor of the declared range
 S_MAX = 1.75
@@ -117,10 +122,14 @@ ASPECT_MAX = 4.0
 #: smallest Poisson's ratio of the declared range (the calibration covers 0.49 ... 0.4999)
 NU_MIN = 0.49
 #: largest nominal compressive strain u/t of the declared range
-MODEL_STRAIN_LIMIT = 0.15
+MODEL_STRAIN_LIMIT = 0.3
+#: number of strains at which the model is evaluated per design
+N_NODES = 4
 #: nominal strains at which the model is evaluated per design (Chebyshev points of
-#: [0, MODEL_STRAIN_LIMIT]; its secant modulus is interpolated quadratically in eps between them)
-EPS_NODES = tuple(0.5 * MODEL_STRAIN_LIMIT * (1.0 - np.cos(np.pi * (2 * k + 1) / 6.0)) for k in range(3))
+#: [0, MODEL_STRAIN_LIMIT]; its secant modulus is interpolated by a polynomial in eps through them)
+EPS_NODES = tuple(0.5 * MODEL_STRAIN_LIMIT * (1.0 - np.cos(np.pi * (2 * k + 1) / (2 * N_NODES))) for k in range(N_NODES))
+#: monomial coefficients of the interpolating polynomial = _TO_MONOMIAL @ values at EPS_NODES
+_TO_MONOMIAL = np.linalg.inv(np.vander(np.array(EPS_NODES), increasing=True))
 #: stretch floor that keeps the law finite far outside the valid range
 LAMBDA_MIN = 0.05
 #: odd orders n of the end correction of the pressure series (terms fall as n^-5)
@@ -227,15 +236,6 @@ def ogden_shear_secant(gamma, mu, alpha):
     return out
 
 
-def _quadratic_through(x, f):
-    """Coefficients (c0, c1, c2) of the parabola through (x_i, f_i); x (3,), f shape (3, n)."""
-    x0, x1, x2 = x
-    d01, d12 = (f[1] - f[0]) / (x1 - x0), (f[2] - f[1]) / (x2 - x1)
-    c2 = (d12 - d01) / (x2 - x0)
-    c1 = d01 - c2 * (x0 + x1)
-    return f[0] - x0 * (c1 + c2 * x0), c1, c2
-
-
 def homogeneous_factor(L, W, mat):
     """``h = c_h(a/b) (1 - HOMOGENEOUS_BULK (1 - 2 nu)) 3K/(3K + G)``, the factor on the law's
     uniaxial stress (see Notes of the module), shape (n,)."""
@@ -248,21 +248,25 @@ def homogeneous_factor(L, W, mat):
 def layer_stress(eps, L, W, t, mat):
     """Pressure part of the nominal stress (MPa) at nominal strains ``eps`` (n, m), point by point.
 
-    ``12 G (b_e/t)^2 eps q Phi(x^2 q, a_e/b_e)`` with ``q = chi(gamma_r)/lambda^THINNING_POWER``
+    ``12 G (b_r/t)^2 eps q Phi(x^2 q, a_r/b_r) a_r b_r/(a_e b_e)`` with
+    ``q = chi(gamma_r)/lambda^THINNING_POWER`` and the plan grown by the bulge rolled onto
+    the plates, ``a_r = a_e + d``, ``b_r = b_e + d``, ``d = ROLL_SCALE t (S eps)^ROLL_POWER``
     (see Notes of the module).
     """
     a, b = np.maximum(L, W) * 0.5, np.minimum(L, W) * 0.5
     G = small_strain_shear_modulus(mat.ogden_mu, mat.ogden_alpha)
     b_e = np.maximum(b - EDGE_ZONE * t, 0.5 * b)     # the floor acts only far outside the range
     a_e = a - (b - b_e)
-    x2 = (36.0 * (1.0 - 2.0 * mat.nu) / BULK_SCALE) * G / mat.E * (b_e / t) ** 2   # 12 G b_e^2/(K t^2)
-    x2 *= 1.0 + BULK_ASPECT * np.log(a / b)
+    roll = (ROLL_SCALE * t)[:, None] * (eps * (a * b / (t * (a + b)))[:, None]) ** ROLL_POWER
+    b_r = b_e[:, None] + roll
+    a_r = a_e[:, None] + roll
+    x2 = (36.0 * (1.0 - 2.0 * mat.nu) / BULK_SCALE) * G / mat.E / (t * t) * (1.0 + BULK_ASPECT * np.log(a / b))
     lam = np.maximum(1.0 - eps, LAMBDA_MIN)
     il2 = lam ** -THINNING_POWER
     chi = ogden_shear_secant(eps / (lam * lam) * (SHEAR_STRAIN_FACTOR * b / t)[:, None], mat.ogden_mu, mat.ogden_alpha)
     q = chi * il2 / np.where(G > 0.0, G, 1.0)[:, None]
-    phi = pressure_factor(x2[:, None] * q, (a_e / b_e)[:, None])
-    return (12.0 * G * (b_e / t) ** 2)[:, None] * eps * q * phi
+    phi = pressure_factor(x2[:, None] * q * b_r * b_r, a_r / b_r)   # x^2 = 12 G b_r^2/(K t^2)
+    return (12.0 * G / (t * t) / (a_e * b_e))[:, None] * b_r**3 * a_r * eps * q * phi
 
 
 def nominal_stress(eps, L, W, t, mat):
@@ -280,18 +284,19 @@ def nominal_stress(eps, L, W, t, mat):
 class ElastomerPad(ElementKind):
     def force(self, p, mat, u):
         L, W, t = p["length_mm"], p["width_mm"], p["thickness_mm"]
-        # Nominal stress = eps x secant modulus; the secant modulus is evaluated exactly at three
-        # strains per design and interpolated quadratically in eps (held at its value at the
-        # strain limit beyond it, where the design is outside the declared range anyway).
-        nodes = np.broadcast_to(np.array(EPS_NODES), (L.size, 3))
+        # Nominal stress = eps x secant modulus; the secant modulus is evaluated exactly at
+        # N_NODES strains per design and interpolated by a polynomial in eps (held at its value
+        # at the strain limit beyond it, where the design is outside the declared range anyway).
+        nodes = np.broadcast_to(np.array(EPS_NODES), (L.size, N_NODES))
         secant = nominal_stress(nodes, L, W, t, mat) / nodes
-        m0, m1, m2 = _quadratic_through(EPS_NODES, secant.T)
+        c = _TO_MONOMIAL @ secant.T                       # (N_NODES, n), constant term first
         eps = u * (1.0 / t)[:, None]
         e = np.minimum(eps, MODEL_STRAIN_LIMIT)
-        sigma = e * m2[:, None]
-        sigma += m1[:, None]
-        sigma *= e
-        sigma += m0[:, None]
+        sigma = e * c[-1][:, None]
+        for ck in c[-2:0:-1]:
+            sigma += ck[:, None]
+            sigma *= e
+        sigma += c[0][:, None]
         sigma *= eps
         sigma *= (L * W)[:, None]
         return sigma

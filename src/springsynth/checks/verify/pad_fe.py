@@ -10,12 +10,12 @@ import numpy as np
 from springsynth.model.materials import Material
 
 
-def _edge_graded(a: float, zone: float, n: int, n_in: int) -> np.ndarray:
+def _edge_graded(a: float, zone: float, n: int, n_in: int, grading: float = 0.6) -> np.ndarray:
     """Nodes on [0, a]: ``n_in`` equal elements up to ``a - zone``, then ``n`` elements shrinking
     toward ``a`` (the free side or the bonded face) by the ratio ``0.6^(3/n)`` (so that a finer
     level splits every element of the zone, not only the smallest)."""
     zone = min(zone, a)
-    w = (0.6 ** (3.0 / n)) ** np.arange(n)
+    w = (grading ** (3.0 / n)) ** np.arange(n)
     x = a - zone + np.r_[0.0, np.cumsum(w / w.sum() * zone)]
     if a - zone > 1e-9 * a:
         x = np.r_[np.linspace(0.0, a - zone, n_in + 1)[:-1], x]
@@ -23,7 +23,8 @@ def _edge_graded(a: float, zone: float, n: int, n_in: int) -> np.ndarray:
     return x
 
 
-def pad_force_fe(L: float, W: float, t: float, mat: Material, u: np.ndarray, *, n_edge: int = 4) -> np.ndarray:
+def pad_force_fe(L: float, W: float, t: float, mat: Material, u: np.ndarray, *, n_edge: int = 4,
+                 max_step: float = 0.025, grading: float = 0.6) -> np.ndarray:
     """Compression force (N) of a block bonded to rigid plates, by non-linear finite elements.
 
     Parameters
@@ -36,6 +37,15 @@ def pad_force_fe(L: float, W: float, t: float, mat: Material, u: np.ndarray, *, 
         Compressions, mm, increasing, > 0.
     n_edge : int
         Elements across each edge zone (mesh level).
+    max_step : float
+        Largest increment of the nominal strain u/t between load steps (steps are added
+        between the requested compressions as needed; a step whose Newton iteration fails
+        is cut into smaller increments, felupe ``CutbackPlugin``; the law is elastic, so
+        the steps change no result, only how far Newton's method reaches).
+
+    Returns
+    -------
+    ndarray, shape (k,)
 
     Notes
     -----
@@ -45,6 +55,13 @@ def pad_force_fe(L: float, W: float, t: float, mat: Material, u: np.ndarray, *, 
     material's own Ogden series (felupe's ``2 mu_i/alpha_i^2`` convention: mu_i =
     mu_p alpha_p / 2), bonded face: all displacement components prescribed;
     Newton-Raphson per step.
+
+    Plates: they reach past the block's free sides. The bulge next to a bonded edge rolls
+    onto the plate from u/t of about 0.15 (S = 1) on; the nodes of the free sides meet the
+    plate's plane in frictionless node-to-plane contact (felupe ``MultiPointContact``,
+    penalty 1e6 N/mm), and the contact force is part of the plate force. Without it (plates
+    cut flush) the side face folds around the bonded edge, the corner elements turn inside
+    out from u/t of about 0.2 on (earlier on finer meshes) and the force has no mesh limit.
 
     Mesh: the stress is singular along the bonded edges, so the mesh is graded toward
     them. In plan, a zone of width t next to each free side gets ``n_edge`` elements whose
@@ -67,11 +84,15 @@ def pad_force_fe(L: float, W: float, t: float, mat: Material, u: np.ndarray, *, 
 
     def nodes(half):
         zone = min(half, t)
-        return _edge_graded(half, zone, n_edge, max(1, math.ceil((half - zone) / t)))
+        return _edge_graded(half, zone, n_edge, max(1, math.ceil((half - zone) / t)), grading)
 
-    mesh = fem.Grid(nodes(a), nodes(b), _edge_graded(h, h, n_edge, 0))
+    mesh = fem.Grid(nodes(a), nodes(b), _edge_graded(h, h, n_edge, 0, grading))
     mesh = mesh.add_midpoints_edges().add_midpoints_faces().add_midpoints_volumes()
     mesh.update(cell_type="hexahedron27")
+    X = mesh.points
+    free = np.flatnonzero(((np.abs(X[:, 0] - a) < 1e-9 * a) | (np.abs(X[:, 1] - b) < 1e-9 * b)) & (X[:, 2] < h * (1 - 1e-9)))
+    mesh.add_points(np.array([[0.0, 0.0, h]]))            # the plate's reference point
+    mesh.points_without_cells = mesh.points_without_cells[:-1]
     region = fem.RegionTriQuadraticHexahedron(mesh)
     field_ = fem.FieldsMixed(region, n=3)
     law = tmat.Hyperelastic(tmat.models.hyperelastic.ogden, mu=mu, alpha=al)
@@ -83,16 +104,22 @@ def pad_force_fe(L: float, W: float, t: float, mat: Material, u: np.ndarray, *, 
         "bonded": fem.Boundary(field_[0], fz=h, skip=(0, 0, 1)),
         "top": fem.Boundary(field_[0], fz=h, skip=(1, 1, 0)),
     }
+    plate = fem.MultiPointContact(field_, points=free, centerpoint=mesh.npoints - 1, skip=(True, True, False))
     u = np.asarray(u, dtype=float)
-    step = fem.Step(items=[solid], ramp={bc["top"]: -u / 2.0}, boundaries=bc)
-    job = fem.CharacteristicCurve(steps=[step], boundary=bc["top"])
+    grid = np.arange(1, math.ceil(u[-1] / (max_step * t)) + 1) * (max_step * t)
+    ramp = np.unique(np.r_[u, grid[grid < u[-1] * (1 - 1e-9)]])
+    ramp = ramp[np.r_[True, np.diff(ramp) > 1e-9 * t]]
+    at = np.searchsorted(ramp, u - 1e-9 * t)
+    step = fem.Step(items=[solid, plate], ramp={bc["top"]: -ramp / 2.0}, boundaries=bc)
+    cutback = [fem.CutbackPlugin()] if hasattr(fem, "CutbackPlugin") else []   # felupe >= 11
+    job = fem.CharacteristicCurve(steps=[step], boundary=bc["top"], plugins=cutback)
     with warnings.catch_warnings():
         warnings.simplefilter("ignore")
         job.evaluate(tol=1e-9, verbose=0)
     F = -4.0 * np.array(job.y)[:, 2]
-    if F.size != u.size:
+    if F.size != ramp.size:
         raise RuntimeError("finite-element solution stopped before the last step")
-    return F
+    return F[at]
 
 
 def pad_force_reference(L: float, W: float, t: float, mat: Material, u: np.ndarray) -> np.ndarray:

@@ -1,0 +1,163 @@
+"""The elastomer pad against data its constants were not fitted to.
+
+* Held-out finite elements: ``tests/benchmarks/pad_fe_heldout.csv``, bonded blocks of shape
+  factors, plan aspects and laws that the fitting table (``pad_fe_table.csv``) does not
+  contain, solved by ``springsynth.checks.verify.pad_force_fe`` on mesh levels 3 and 4 and
+  extrapolated to first order (generator: ``tests/benchmarks/fit_pad.py generate heldout``).
+  The fit (``fit_pad.py fit``) never reads this file.
+* A published bonded-block relation: Gent & Lindley (1959) for the small-strain compression
+  modulus against the shape factor.
+"""
+
+from __future__ import annotations
+
+import csv
+from pathlib import Path
+
+import numpy as np
+import pytest
+
+from springsynth.elements import get_kind
+from springsynth.elements.elastomer_pad import MODEL_STRAIN_LIMIT, S_MAX, shape_factor
+from springsynth.model.materials import MaterialArrays, catalogue, material_from_mapping
+
+PAD = get_kind("elastomer_pad")
+BENCH = Path(__file__).parents[1] / "benchmarks"
+HELDOUT = BENCH / "pad_fe_heldout.csv"
+TRAINING = BENCH / "pad_fe_table.csv"
+
+
+def _read(path):
+    with open(path) as fh:
+        return list(csv.DictReader(fh))
+
+
+def _material(row):
+    """The row's material: the catalogue's, or an inline law rebuilt from the row's Ogden series."""
+    cat = catalogue()
+    if row["material"] in cat:
+        return cat[row["material"]]
+    return material_from_mapping(row["material"], {
+        "law": "ogden", "mu_MPa": [float(v) for v in row["ogden_mu_MPa"].split()],
+        "alpha": [float(v) for v in row["ogden_alpha"].split()], "nu": float(row["nu"]),
+        "density_kg_m3": 1000.0, "strain_limit": 1.0}, where="pad_fe_heldout.csv")
+
+
+def _kernel_over_reference(rows):
+    """Kernel force / FE reference - 1 for every row, shape (len(rows),)."""
+    out = np.empty(len(rows))
+    for i, r in enumerate(rows):
+        L, W, t, e = (float(r[k]) for k in ("L_mm", "W_mm", "t_mm", "strain"))
+        p = {"length_mm": np.array([L]), "width_mm": np.array([W]), "thickness_mm": np.array([t])}
+        F = PAD.force(p, MaterialArrays.of(_material(r)), np.array([[e * t]]))[0, 0]
+        out[i] = F / float(r["F_ref_N"]) - 1.0
+    return out
+
+
+def _case(row):
+    L, W, t = (float(row[k]) for k in ("L_mm", "W_mm", "t_mm"))
+    return row["material"], round(L / W, 6), round(shape_factor(L, W, t), 4)
+
+
+def test_held_out_set_is_disjoint_from_the_fit_and_covers_the_range():
+    held, train = _read(HELDOUT), _read(TRAINING)
+    assert not {_case(r) for r in held} & {_case(r) for r in train}
+    # other shape factors, other plan aspects and laws the fit never saw, up to the new strain limit
+    assert {_case(r)[2] for r in held} - {_case(r)[2] for r in train}
+    assert {_case(r)[1] for r in held} - {_case(r)[1] for r in train}
+    assert {r["material"] for r in held} - {r["material"] for r in train}
+    assert {r["law"] for r in held} >= {"neo_hookean", "mooney_rivlin", "ogden"}
+    assert max(float(r["strain"]) for r in held) == pytest.approx(MODEL_STRAIN_LIMIT)
+    assert all(r["ref"] == "extrapolated" for r in held)
+    for r in held:   # every held-out case lies inside the declared range
+        L, W, t = (float(r[k]) for k in ("L_mm", "W_mm", "t_mm"))
+        assert shape_factor(L, W, t) <= S_MAX * (1 + 1e-6) and t <= min(L, W) and float(r["nu"]) >= 0.49
+        assert _material(r).E_MPa == pytest.approx(float(r["E_MPa"]), rel=1e-4)
+
+
+#: the held-out laws: catalogue natural rubber (Ogden 1972), silicone (neo-Hookean), TPU (Mooney-Rivlin,
+#: nu = 0.49), and three inline laws of fit_pad.INLINE (Mooney-Rivlin, neo-Hookean at nu = 0.49, two-term Ogden)
+HELD_MATERIALS = ("natural_rubber", "silicone", "tpu", "mr_filled", "nh_compressible", "ogden_two_term")
+
+
+@pytest.mark.parametrize("material", HELD_MATERIALS)
+def test_pad_within_3_percent_of_held_out_finite_elements(material):
+    # Goal of the kind: within 3 % of the finite-element reference over its declared range
+    # (u/t <= MODEL_STRAIN_LIMIT, S <= S_MAX), on cases the fit did not see. Measured largest
+    # deviations per law and strain range: see the elastomer_pad module docstring.
+    rows = [r for r in _read(HELDOUT) if r["material"] == material]
+    dev = _kernel_over_reference(rows)
+    worst = int(np.argmax(np.abs(dev)))
+    assert len(rows) >= 2 * 13 and np.abs(dev).max() <= 0.03, (
+        f"{material}: kernel/FE - 1 = {dev[worst]:+.4f} at L={rows[worst]['L_mm']} W={rows[worst]['W_mm']} "
+        f"t={float(rows[worst]['t_mm']):.4g} u/t={rows[worst]['strain']}")
+
+
+@pytest.mark.slow
+def test_held_out_case_resolves_and_kernel_agrees():
+    # One held-out case solved here (the two-term Ogden law the catalogue does not have, square
+    # 20 x 20 x 14.29, S = 0.35; the smallest mesh of the set): the stored forces are the FE's
+    # (same code and mesh, 1e-5 relative: Newton tolerance and a different load-step sequence),
+    # and the kernel is within 3 % of the levels-3/4 extrapolation at u/t = 0.1, 0.2, 0.3.
+    pytest.importorskip("felupe")
+    from springsynth.checks.verify import pad_force_fe
+    rows = [r for r in _read(HELDOUT) if r["material"] == "ogden_two_term" and float(r["L_mm"]) == 20.0
+            and float(r["W_mm"]) == 20.0 and round(float(r["strain"]), 6) in (0.1, 0.2, 0.3)]
+    assert len(rows) == 3
+    t = float(rows[0]["t_mm"])
+    e = np.array([float(r["strain"]) for r in rows])
+    mat = _material(rows[0])
+    F3 = pad_force_fe(20.0, 20.0, t, mat, e * t, n_edge=3)
+    F4 = pad_force_fe(20.0, 20.0, t, mat, e * t, n_edge=4)
+    assert F3 == pytest.approx([float(r["F_level3_N"]) for r in rows], rel=1e-5)
+    assert F4 == pytest.approx([float(r["F_level4_N"]) for r in rows], rel=1e-5)
+    p = {"length_mm": np.array([20.0]), "width_mm": np.array([20.0]), "thickness_mm": np.array([t])}
+    kernel = PAD.force(p, MaterialArrays.of(mat), (e * t)[None, :])[0]
+    assert np.abs(kernel / (4.0 * F4 - 3.0 * F3) - 1.0).max() <= 0.03
+
+
+# --------------------------------------------------------------------------- Gent & Lindley 1959
+
+def _apparent_modulus(S, mat, a=50.0):
+    """Small-strain compression modulus F t/(A u) of a square a x a pad of shape factor S, MPa."""
+    h = a / (4.0 * S)
+    du = 1e-5 * h
+    p = {"length_mm": np.array([a]), "width_mm": np.array([a]), "thickness_mm": np.array([h])}
+    return PAD.force(p, MaterialArrays.of(mat), np.array([[du]]))[0, 0] / du * h / (a * a)
+
+
+def _gent_lindley(S, E, B, beta):
+    """1/E_a = 1/(E (1 + beta S^2)) + 1/B (Gent & Lindley 1959: pressure method plus bulk compliance)."""
+    return 1.0 / (1.0 / (E * (1.0 + beta * S * S)) + 1.0 / B)
+
+
+#: unfilled rubber of E = 3 MPa, bulk modulus B = 2000 MPa (neo-Hookean, mu = E/3, nu from B)
+GL_RUBBER = {"law": "neo_hookean", "mu_MPa": 1.0, "nu": (3 * 2000.0 - 3.0) / (6 * 2000.0), "density_kg_m3": 1000.0,
+             "strain_limit": 1.0}
+
+
+def test_gent_lindley_check_value_and_rounded_coefficient():
+    # A.N. Gent & P.B. Lindley, "The compression of bonded rubber blocks", Proc. Instn Mech.
+    # Engrs 173:111-122, 1959 (citation from memory; the relation and the guidance below seen
+    # as quoted in Strojniski vestnik - J. Mech. Eng. 60:506-511, 2014, eqs. (1)-(2)):
+    # E_a = E (1 + beta S^2), beta = 2 "for square, circular or moderately rectangular" blocks
+    # of unfilled rubber, and 1/E_a' = 1/E_a + 1/B for large S. Check value (computed from the
+    # relation): S = 1.25, E = 3 MPa, B = 2000 MPa -> E_a' = 12.299 MPa.
+    mat = material_from_mapping("gent_lindley_rubber", GL_RUBBER, where="test")
+    assert _gent_lindley(1.25, 3.0, 2000.0, 2.0) == pytest.approx(12.299, abs=5e-4)
+    # beta = 2 is rounded down for the square: the pressure method gives beta = 4 k1 (1 + b/a)^2
+    # = 2.256 with the torsion coefficient k1 = 0.141 of the square (Timoshenko & Goodier,
+    # Theory of Elasticity, 3rd ed., 1970, sec. 109 [memory]), so a square pad lies 9.5 %
+    # above the rounded relation at S = 1.25. Measured: kernel +10.3 %; tolerance +5 ... +15 %.
+    ratio = _apparent_modulus(1.25, mat) / 12.299 - 1.0
+    assert 0.05 <= ratio <= 0.15
+
+
+@pytest.mark.parametrize("S", [1.0, 1.25, 1.5, 1.75])
+def test_gent_lindley_with_the_square_coefficient(S):
+    # The same published relation with the square's pressure-method coefficient beta = 2.256
+    # (see above) and the bulk compliance: the kernel's small-strain modulus within 2 % for
+    # S >= 1, where the pressure part dominates (measured +1.7 % at S = 1 ... -0.1 % at S = 1.75;
+    # the homogeneous part, which the relation counts as E, is 12 % stiffer in a bonded block).
+    mat = material_from_mapping("gent_lindley_rubber", GL_RUBBER, where="test")
+    assert _apparent_modulus(S, mat) == pytest.approx(_gent_lindley(S, 3.0, 2000.0, 16 * 0.141), rel=0.02)
