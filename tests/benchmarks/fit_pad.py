@@ -146,9 +146,25 @@ def build_rows(results):
     return rows
 
 
-def write(rows, path=TABLE):
+def provenance(which):
+    """Comment lines (``# ...``) at the top of a generated table: command, solver, mesh, versions, date."""
+    import felupe
+
+    return [
+        f"bonded elastomer pad, {which} cases: finite-element forces and their reference (readers skip '#' lines)",
+        f"command: python tests/benchmarks/fit_pad.py generate {which}",
+        f"solver: springsynth.checks.verify.pad_force_fe, felupe {felupe.__version__}, numpy {np.__version__}",
+        ("mesh: one eighth of the block, 27-node hexahedra, mixed u-p-J, graded toward the bonded edges; "
+         "levels n_edge = 3 and 4; load steps <= 0.025 t; plates in frictionless contact with the bulge"),
+        "reference: F_ref_N = 4 F_level4_N - 3 F_level3_N (ref = extrapolated), else see fit_pad.py",
+        f"generated: {time.strftime('%Y-%m-%d')}",
+    ]
+
+
+def write(rows, path=TABLE, which="training"):
     tmp = path.with_suffix(".tmp")
     with open(tmp, "w", newline="") as fh:
+        fh.writelines(f"# {line}\n" for line in provenance(which))
         w = csv.writer(fh)
         w.writerow(COLUMNS)
         for r in rows:
@@ -183,7 +199,7 @@ def generate(which="training", workers="1"):
             print(case, level, f"{F.size} strains", time.strftime("%H:%M:%S"), flush=True)
     order = {c: i for i, c in enumerate(cases)}
     rows = build_rows(dict(sorted(results.items(), key=lambda kv: (order[kv[0][0]], kv[0][1]))))
-    write(rows, path)
+    write(rows, path, which)
     partial.unlink()
     return rows
 
@@ -191,7 +207,8 @@ def generate(which="training", workers="1"):
 def load(path=TABLE):
     """Rows of a stored table that have a reference force."""
     with open(path) as fh:
-        return [r for r in csv.DictReader(fh) if np.isfinite(float(r["F_ref_N"]))]
+        return [r for r in csv.DictReader(line for line in fh if not line.startswith("#"))
+                if np.isfinite(float(r["F_ref_N"]))]
 
 
 def kernel_forces(rows, constants=None):
@@ -243,6 +260,22 @@ def fit(path=TABLE):
     return res.x
 
 
+def per_case(rows, dev):
+    """Largest and median |kernel/F_ref - 1| (%) per case (material, L/W, S) and per law, inside the declared range."""
+    cases = {}
+    for r, d in zip(rows, dev):
+        if in_range(r):
+            L, Wd, t = (float(r[k]) for k in ("L_mm", "W_mm", "t_mm"))
+            key = (r["material"], r["law"], round(L / Wd, 3), round(L * Wd / (2 * t * (L + Wd)), 3))
+            cases.setdefault(key, []).append(abs(d) * 100.0)
+    print(f"{'material':16s}{'law':14s}{'L/W':>6s}{'S':>7s}{'max %':>8s}{'median %':>10s}")
+    for (mid, law, asp, S), v in sorted(cases.items(), key=lambda kv: (kv[0][1], kv[0][0], kv[0][3])):
+        print(f"{mid:16s}{law:14s}{asp:6g}{S:7.3g}{max(v):8.2f}{np.median(v):10.2f}")
+    for law in sorted({k[1] for k in cases}):
+        v = np.concatenate([cases[k] for k in cases if k[1] == law])
+        print(f"law {law:14s} max {v.max():.2f} %  median {np.median(v):.2f} %  ({v.size} points)")
+
+
 def check(which="training"):
     """Kernel / F_ref - 1 over a stored table (rows outside the declared range marked), and the
     largest deviation per material and strain range."""
@@ -264,6 +297,7 @@ def check(which="training"):
     print(f"max |dev| = {np.abs(dev[inside]).max():.4f} (rms {np.sqrt(np.mean(dev[inside] ** 2)):.4f}) over "
           f"{inside.sum()} rows inside the declared range (u/t <= {ep.MODEL_STRAIN_LIMIT:g}, S <= {ep.S_MAX:g}); "
           f"{np.abs(dev[~inside]).max() if (~inside).any() else float('nan'):.4f} outside")
+    per_case(rows, dev)
     return dev
 
 

@@ -28,8 +28,9 @@ TRAINING = BENCH / "pad_fe_table.csv"
 
 
 def _read(path):
+    """Rows of a stored finite-element table (its '#' lines carry the provenance)."""
     with open(path) as fh:
-        return list(csv.DictReader(fh))
+        return list(csv.DictReader(line for line in fh if not line.startswith("#")))
 
 
 def _material(row):

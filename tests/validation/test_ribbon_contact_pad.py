@@ -289,8 +289,8 @@ FE_TABLE = Path(__file__).parents[1] / "benchmarks" / "pad_fe_table.csv"
 def _fe_rows():
     """Rows of the FE table inside the declared strain and shape-factor range (the table's t is
     printed to 6 digits, hence the relative slack)."""
-    with open(FE_TABLE) as fh:
-        rows = list(csv.DictReader(fh))
+    with open(FE_TABLE) as fh:   # '#' lines: the table's provenance
+        rows = list(csv.DictReader(line for line in fh if not line.startswith("#")))
     return [r for r in rows if float(r["strain"]) <= MODEL_STRAIN_LIMIT * (1 + 1e-6)
             and shape_factor(*(float(r[k]) for k in ("L_mm", "W_mm", "t_mm"))) <= S_MAX * (1 + 1e-5)]
 

@@ -124,7 +124,7 @@ NU_MIN = 0.49
 #: largest nominal compressive strain u/t of the declared range
 MODEL_STRAIN_LIMIT = 0.3
 #: number of strains at which the model is evaluated per design
-N_NODES = 4
+N_NODES = 6
 #: nominal strains at which the model is evaluated per design (Chebyshev points of
 #: [0, MODEL_STRAIN_LIMIT]; its secant modulus is interpolated by a polynomial in eps through them)
 EPS_NODES = tuple(0.5 * MODEL_STRAIN_LIMIT * (1.0 - np.cos(np.pi * (2 * k + 1) / (2 * N_NODES))) for k in range(N_NODES))
