@@ -301,7 +301,8 @@ def test_pad_within_3_percent_of_finite_elements_over_declared_range():
     # edges; levels 3 and 4 extrapolated, or level 3 corrected by the measured mesh excess),
     # springsynth.checks.verify.pad_force_fe and tests/benchmarks/fit_pad.py. Catalogue natural
     # rubber, silicone and TPU; L/W = 1, 2, 4; S = 0.25 ... S_MAX; u/t up to the model limit.
-    # Goal of the kind: within 3 % inside its declared range (measured 2.6 %).
+    # This is the fit's own data (measured 2.7 %); the check on cases the fit never saw is
+    # tests/validation/test_pad_heldout.py.
     rows = _fe_rows()
     mats = {m: MaterialArrays.of(catalogue()[m]) for m in {r["material"] for r in rows}}
     worst = 0.0
@@ -310,7 +311,7 @@ def test_pad_within_3_percent_of_finite_elements_over_declared_range():
         p = arrays(length_mm=L, width_mm=W, thickness_mm=t)
         F = PAD.force(p, mats[r["material"]], np.array([[e * t]]))[0, 0]
         worst = max(worst, abs(F / float(r["F_ref_N"]) - 1.0))
-    assert len(rows) > 300 and worst <= 0.03
+    assert len(rows) >= 200 and worst <= 0.03
 
 
 @pytest.mark.slow
