@@ -1,4 +1,25 @@
-"""Bonded elastomer blocks by continuum finite elements (felupe, a general-purpose non-linear FE library)."""
+"""Bonded elastomer blocks by continuum finite elements (felupe, a general-purpose non-linear FE library).
+
+Notes
+-----
+Mesh: the stress is singular along the bonded edges, so the mesh is graded toward
+them. In plan, a zone of width t next to each free side gets ``n_edge`` elements whose
+sizes shrink by 0.6^(3/n_edge) toward the side, the interior about one element per t;
+through the half thickness ``n_edge`` elements shrink the same way toward the bonded
+face. Mesh study (square 20 x 20 x 5 block of the Ogden-1972 rubber, S = 1; apparent
+modulus F t/(A E u) for n_edge = 2, 3, 4, 6): at u/t = 0.002 3.3981, 3.3767, 3.3683,
+3.3615 (observed order 1.6, limit 3.354); at u/t = 0.1 4.0653, 4.0072, 3.9789, 3.9503
+(order 1.0, limit 3.891). The singular edge makes convergence slow at finite strain.
+``pad_force_reference`` extrapolates levels 3 and 4 to first order, F = 4 F_4 - 3 F_3:
+-0.33 % at u/t = 0.002 and +0.07 % at u/t = 0.1 from the three-level limits above.
+With the plates' contact (same block, levels 3, 4, 5; forces in N): until the bulge
+touches the plates the levels converge to first order (u/t = 0.1: 199.24, 197.83, 196.99;
+the 3/4 and 4/5 extrapolations agree within 0.01 %, within 0.2 % up to u/t = 0.125).
+Once it rolls onto them (u/t >= 0.15 here, S u/t >= about 0.13 in general) the level-to-level
+change shrinks and loses its sign (u/t = 0.2: 470.78, 468.78, 469.44; 0.3: 871.78, 872.93,
+872.35): the two extrapolations then differ by up to 2 %, and a first-order fit through the
+three levels lies within 1 % of 4 F_4 - 3 F_3. The reference is uncertain by about 1 % there.
+"""
 
 from __future__ import annotations
 
@@ -21,6 +42,34 @@ def _edge_graded(a: float, zone: float, n: int, n_in: int, grading: float = 0.6)
         x = np.r_[np.linspace(0.0, a - zone, n_in + 1)[:-1], x]
     x[-1] = a
     return x
+
+
+def _block_mesh(fem, L, W, t, n_edge, grading):
+    """One eighth of the block (27-node hexahedra graded toward the bonded edges) with the plate's
+    reference point appended, and the indices of the free-side nodes that may touch the plate."""
+    a, b, h = L / 2.0, W / 2.0, t / 2.0
+
+    def nodes(half):
+        zone = min(half, t)
+        return _edge_graded(half, zone, n_edge, max(1, math.ceil((half - zone) / t)), grading)
+
+    mesh = fem.Grid(nodes(a), nodes(b), _edge_graded(h, h, n_edge, 0, grading))
+    mesh = mesh.add_midpoints_edges().add_midpoints_faces().add_midpoints_volumes()
+    mesh.update(cell_type="hexahedron27")
+    X = mesh.points
+    free = np.flatnonzero(((np.abs(X[:, 0] - a) < 1e-9 * a) | (np.abs(X[:, 1] - b) < 1e-9 * b)) & (X[:, 2] < h * (1 - 1e-9)))
+    mesh.add_points(np.array([[0.0, 0.0, h]]))            # the plate's reference point
+    mesh.points_without_cells = mesh.points_without_cells[:-1]
+    return mesh, free
+
+
+def _load_ramp(u, t, max_step):
+    """Compressions to step through (the requested ones, with steps of at most ``max_step t`` between
+    them) and the indices of the requested ones in it."""
+    grid = np.arange(1, math.ceil(u[-1] / (max_step * t)) + 1) * (max_step * t)
+    ramp = np.unique(np.r_[u, grid[grid < u[-1] * (1 - 1e-9)]])
+    ramp = ramp[np.r_[True, np.diff(ramp) > 1e-9 * t]]
+    return ramp, np.searchsorted(ramp, u - 1e-9 * t)
 
 
 def pad_force_fe(L: float, W: float, t: float, mat: Material, u: np.ndarray, *, n_edge: int = 4,
@@ -63,23 +112,7 @@ def pad_force_fe(L: float, W: float, t: float, mat: Material, u: np.ndarray, *, 
     cut flush) the side face folds around the bonded edge, the corner elements turn inside
     out from u/t of about 0.2 on (earlier on finer meshes) and the force has no mesh limit.
 
-    Mesh: the stress is singular along the bonded edges, so the mesh is graded toward
-    them. In plan, a zone of width t next to each free side gets ``n_edge`` elements whose
-    sizes shrink by 0.6^(3/n_edge) toward the side, the interior about one element per t;
-    through the half thickness ``n_edge`` elements shrink the same way toward the bonded
-    face. Mesh study (square 20 x 20 x 5 block of the Ogden-1972 rubber, S = 1; apparent
-    modulus F t/(A E u) for n_edge = 2, 3, 4, 6): at u/t = 0.002 3.3981, 3.3767, 3.3683,
-    3.3615 (observed order 1.6, limit 3.354); at u/t = 0.1 4.0653, 4.0072, 3.9789, 3.9503
-    (order 1.0, limit 3.891). The singular edge makes convergence slow at finite strain.
-    ``pad_force_reference`` extrapolates levels 3 and 4 to first order, F = 4 F_4 - 3 F_3:
-    -0.33 % at u/t = 0.002 and +0.07 % at u/t = 0.1 from the three-level limits above.
-    With the plates' contact (same block, levels 3, 4, 5; forces in N): until the bulge
-    touches the plates the levels converge to first order (u/t = 0.1: 199.24, 197.83, 196.99;
-    the 3/4 and 4/5 extrapolations agree within 0.01 %, within 0.2 % up to u/t = 0.125).
-    Once it rolls onto them (u/t >= 0.15 here, S u/t >= about 0.13 in general) the level-to-level
-    change shrinks and loses its sign (u/t = 0.2: 470.78, 468.78, 469.44; 0.3: 871.78, 872.93,
-    872.35): the two extrapolations then differ by up to 2 %, and a first-order fit through the
-    three levels lies within 1 % of 4 F_4 - 3 F_3. The reference is uncertain by about 1 % there.
+    Mesh: graded toward the singular bonded edges; its convergence is in the module's Notes.
     """
     import felupe as fem
     import felupe.constitution.tensortrax as tmat
@@ -87,19 +120,8 @@ def pad_force_fe(L: float, W: float, t: float, mat: Material, u: np.ndarray, *, 
     mu = [m * a / 2.0 for m, a in zip(mat.ogden_mu_MPa, mat.ogden_alpha)]
     al = list(mat.ogden_alpha)
     bulk = mat.E_MPa / (3.0 * (1.0 - 2.0 * mat.nu))
-    a, b, h = L / 2.0, W / 2.0, t / 2.0
-
-    def nodes(half):
-        zone = min(half, t)
-        return _edge_graded(half, zone, n_edge, max(1, math.ceil((half - zone) / t)), grading)
-
-    mesh = fem.Grid(nodes(a), nodes(b), _edge_graded(h, h, n_edge, 0, grading))
-    mesh = mesh.add_midpoints_edges().add_midpoints_faces().add_midpoints_volumes()
-    mesh.update(cell_type="hexahedron27")
-    X = mesh.points
-    free = np.flatnonzero(((np.abs(X[:, 0] - a) < 1e-9 * a) | (np.abs(X[:, 1] - b) < 1e-9 * b)) & (X[:, 2] < h * (1 - 1e-9)))
-    mesh.add_points(np.array([[0.0, 0.0, h]]))            # the plate's reference point
-    mesh.points_without_cells = mesh.points_without_cells[:-1]
+    h = t / 2.0
+    mesh, free = _block_mesh(fem, L, W, t, n_edge, grading)
     region = fem.RegionTriQuadraticHexahedron(mesh)
     field_ = fem.FieldsMixed(region, n=3)
     law = tmat.Hyperelastic(tmat.models.hyperelastic.ogden, mu=mu, alpha=al)
@@ -112,11 +134,7 @@ def pad_force_fe(L: float, W: float, t: float, mat: Material, u: np.ndarray, *, 
         "top": fem.Boundary(field_[0], fz=h, skip=(1, 1, 0)),
     }
     plate = fem.MultiPointContact(field_, points=free, centerpoint=mesh.npoints - 1, skip=(True, True, False))
-    u = np.asarray(u, dtype=float)
-    grid = np.arange(1, math.ceil(u[-1] / (max_step * t)) + 1) * (max_step * t)
-    ramp = np.unique(np.r_[u, grid[grid < u[-1] * (1 - 1e-9)]])
-    ramp = ramp[np.r_[True, np.diff(ramp) > 1e-9 * t]]
-    at = np.searchsorted(ramp, u - 1e-9 * t)
+    ramp, at = _load_ramp(np.asarray(u, dtype=float), t, max_step)
     step = fem.Step(items=[solid, plate], ramp={bc["top"]: -ramp / 2.0}, boundaries=bc)
     cutback = [fem.CutbackPlugin()] if hasattr(fem, "CutbackPlugin") else []   # felupe >= 11
     job = fem.CharacteristicCurve(steps=[step], boundary=bc["top"], plugins=cutback)
@@ -130,7 +148,7 @@ def pad_force_fe(L: float, W: float, t: float, mat: Material, u: np.ndarray, *, 
 
 
 def pad_force_reference(L: float, W: float, t: float, mat: Material, u: np.ndarray) -> np.ndarray:
-    """``pad_force_fe`` on levels 3 and 4, extrapolated to first order (see its mesh study)."""
+    """``pad_force_fe`` on levels 3 and 4, extrapolated to first order (see the module's mesh study)."""
     F3 = pad_force_fe(L, W, t, mat, u, n_edge=3)
     F4 = pad_force_fe(L, W, t, mat, u, n_edge=4)
     return 4.0 * F4 - 3.0 * F3
