@@ -37,7 +37,7 @@ from springsynth.model.study import (
 )
 from springsynth.model.suggest import unknown_key_message
 from springsynth.model.target import Target
-from springsynth.search.stock import check_stock
+from springsynth.assembly.stock import check_stock
 
 __all__ = ["load_study", "study_from_mapping", "apply_overrides"]
 

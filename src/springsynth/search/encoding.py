@@ -14,7 +14,7 @@ gene        type       meaning
                        (log scale where ``Param.log``; whole numbers and choices by rounding;
                        under ``stock = "standard"`` a stock size is entry floor(z n) of the n sizes
                        of the element's material, and every value is rounded to its resolution:
-                       :mod:`springsynth.search.stock`)
+                       :mod:`springsynth.assembly.stock`)
 4+n_params  category   (chains only) 1: this slot is a link in series with the slot before
                        (its chain continues), 0: a new branch (slot 0 always 0)
 ==========  =========  ==========================================================
@@ -35,7 +35,7 @@ import numpy as np
 from springsynth.assembly.design import Chain, Design, Element
 from springsynth.assembly.slots import Slots
 from springsynth.model.study import Study
-from springsynth.search.stock import check_stock
+from springsynth.assembly.stock import check_stock
 
 __all__ = ["Encoding", "OFFSET_LO", "OFFSET_HI"]
 
