@@ -16,6 +16,7 @@ from pathlib import Path
 from typing import Any, Mapping
 
 from springsynth.assembly.design import MAX_COUNT
+from springsynth.assembly.stock import check_stock
 from springsynth.checks.fatigue import check_fatigue_data
 from springsynth.elements import ElementKind, get_kind, registry
 from springsynth.io.design_toml import DUTY_KEYS, duty_from_mapping, read_toml, resolve_materials
@@ -37,7 +38,6 @@ from springsynth.model.study import (
 )
 from springsynth.model.suggest import unknown_key_message
 from springsynth.model.target import Target
-from springsynth.assembly.stock import check_stock
 
 __all__ = ["load_study", "study_from_mapping", "apply_overrides"]
 

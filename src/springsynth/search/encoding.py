@@ -34,8 +34,8 @@ import numpy as np
 
 from springsynth.assembly.design import Chain, Design, Element
 from springsynth.assembly.slots import Slots
-from springsynth.model.study import Study
 from springsynth.assembly.stock import check_stock
+from springsynth.model.study import Study
 
 __all__ = ["Encoding", "OFFSET_LO", "OFFSET_HI"]
 
