@@ -54,7 +54,9 @@ notch_parallelogram       plane-stress finite elements of one circular notch hin
 Any other kind is reported as "not verified: no independent solver for <kind>".
 
 Chains: each link is re-solved by its kind's solver on its own stroke table (the strokes
-the assembly tabulates it on, up to its reach) and at the strokes the kernel's loading
+the assembly tabulates it on, up to its reach or, where no link of the chain has a falling
+branch, up to 1.25 times the largest stroke the kernel's loading path gives it: a link is
+not asked for travel the chain never gives it) and at the strokes the kernel's loading
 path gives it; the chain's verified force is then the series composition of the links'
 independent curves by the same loading-path construction as the kernels'
 (:func:`springsynth.assembly.chains.series_path`), snaps included. A link is compared on
@@ -300,6 +302,9 @@ def _check_element(i: int, e: Element, mat: Material, x: np.ndarray, *, stress: 
 
 #: a chain link's table for its independent solver: at most DIRECT_POINTS strokes, so each is solved
 _LINK_TABLE = unit_grid(14, geometric=4)
+#: where no link falls, a link is solved up to this multiple of the largest stroke the kernel's path gives it
+#: (room for an independent curve up to a fifth softer); beyond, its table is continued as in the kernel
+_PATH_MARGIN = 1.25
 
 
 def _link_solution(e: Element, mat: Material, u: np.ndarray):
@@ -354,17 +359,19 @@ def _check_chain(first: int, index: int, chain: Chain, mats, x: np.ndarray):
     top = max(float(np.max(x)) - chain.offset_mm, 1e-9)
     params = [{q: np.array([v]) for q, v in e.values().items()} for e in chain.links]
     k_max = max(get_kind(e.kind).stroke_marks(p).shape[1] for e, p in zip(chain.links, params))
+    falls = [not get_kind(e.kind).monotonic_force for e in chain.links]
     u_tab, F_tab, checks = [], [], []
     for k, (e, p) in enumerate(zip(chain.links, params)):
         kind = get_kind(e.kind)
         reach = np.maximum(np.minimum(np.array([top]), kind.stroke_reach(p)), 1e-9)
+        if not any(falls):      # monotone links: the path takes each only as far as the chain's end force
+            reach = np.minimum(reach, max(_PATH_MARGIN * float(np.max(kernel.element_stroke_mm[0, k])), 1e-6))
         grid = table_strokes(reach, kind.stroke_marks(p), k_max, _LINK_TABLE)[0]
         check, fv = _check_link(first + k, e, mats[e.material], grid, kernel.element_stroke_mm[0, k])
         checks.append(check)
         ut, Ft = continued(grid[None, :], fv[None, :], np.array([max(top, reach[0]) * (1 + 1e-6) + 1e-9]))
         u_tab.append(ut)
         F_tab.append(Ft)
-    falls = [not get_kind(e.kind).monotonic_force for e in chain.links]
     path = series_path(np.stack(u_tab), np.stack(F_tab), np.array([falls.index(True) if any(falls) else -1]))
     u = x - chain.offset_mm
     order = np.argsort(u, kind="stable")
