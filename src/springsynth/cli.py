@@ -583,6 +583,7 @@ def tolerance(
     out_dir: Optional[Path] = typer.Option(None, "--out", help="folder to create for the results (default <design>-tolerance)"),
     process: str = typer.Option("auto", "--process", help="auto, rolled_strip, drawn_wire, machined, moulded, moulded_rubber or printed"),
     seed: int = typer.Option(0, "--seed", min=0),
+    band_pct: float = typer.Option(10.0, "--band-pct", min=0.0, help="target without a band: ±% of its force"),
 ):
     """Monte Carlo over manufacturing tolerances: force band, share of parts in spec, sensitivities."""
     from springsynth.checks.tolerance import tolerance_analysis
@@ -595,13 +596,14 @@ def tolerance(
     x, target, _ = _stroke_points(at, to, points, "tolerance", design)
     if samples < 2:
         raise InputError(f"--samples must be at least 2, got {samples}", where="tolerance")
-    res = tolerance_analysis(d, x, target=target, n_samples=samples, seed=seed, process=process)
+    res = tolerance_analysis(d, x, target=target, n_samples=samples, seed=seed, process=process, band_pct=band_pct)
     folder = new_folder(out_dir or Path(f"{safe_folder_name(d.name, fallback='design')}-tolerance"))
     write_tolerance(res, folder, target=target)
     out.print(escape(f"{d.name}: {samples} parts; force at {x[-1]:.4g} mm: nominal {res.nominal_N[-1]:.4g} N, "
                      f"5-95 % {res.p05_N[-1]:.4g} .. {res.p95_N[-1]:.4g} N"))
     if math.isfinite(res.share_in_band):
-        out.print(f"inside the target band at every point: {pct_text(100 * res.share_in_band, decimals=1)} of parts")
+        band = "the target band" if target.has_band else f"±{band_pct:g} % of the target force"
+        out.print(f"inside {band} at every point: {pct_text(100 * res.share_in_band, decimals=1)} of parts")
     tab = Table(title="sensitivity (elasticity = least-squares d ln F / d ln p over the stroke; spread = 1-sigma "
                       "share of the force, %)", title_justify="left")
     for c in ("quantity", "tolerance", "elasticity", "spread %"):

@@ -108,7 +108,8 @@ def _synthesis(study_path, errors):
                design(blade(count=2), _coil(6.0), blade(offset_mm=1.0, params={"thickness_mm": 0.4}), name="D02"))
     F = np.array([[errors[0], 0.41, 1234.5], [errors[1], 0.62, 98765.4]])
     return Synthesis(study=st, designs=designs, objectives=F, constraints=np.zeros((2, 7)), mass_g=np.array([1.2, 3.4]),
-                     feasible=True, seed=0, population=8, generations=1, evaluations=16)
+                     feasible=True, seed=0, population=8, generations=1, evaluations=16,
+                     in_spec_share=np.array([0.935, 0.0]), yield_samples=200)
 
 
 def test_pareto_table_fits_80_columns_with_readable_percentages(narrow, linear_study, tmp_path, capsys):
@@ -119,6 +120,7 @@ def test_pareto_table_fits_80_columns_with_readable_percentages(narrow, linear_s
     assert [ln.split()[1] for ln in rows] == ["D01", "D02"] and "…" not in text
     assert "e-14" not in text and "< 0.01" in text and "12.35" in text
     assert "98\u2009765" in text        # sizes as the report writes them (thin-space thousands)
+    assert "in spec" in text and "93.5" in text
 
 
 # --------------------------------------------------------------------------- model limits and design rules

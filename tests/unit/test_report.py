@@ -181,22 +181,26 @@ def test_report_command_rejects_a_folder_that_is_not_a_run(tmp_path):
 @pytest.mark.slow
 def test_verification_columns_are_shown_when_present_and_omitted_otherwise(run_copy):
     # a run verifies its top designs; a table without the column gives a report without it
+    # every run has its in-spec share (a column of its own); a run written before it has none
     table = pd.read_csv(run_copy / "pareto.csv")
-    assert "verified_error_pct" in table.columns
-    extra = [c for c in ("verified_error_pct", "in_spec_share") if c in table.columns]
-    table = table.drop(columns=extra)
+    assert "verified_error_pct" in table.columns and "in_spec_share" in table.columns
+    table = table.drop(columns=["verified_error_pct", "in_spec_share"])
     table.to_csv(run_copy / "pareto.csv", index=False)
     build_report(read_run(run_copy))
     text = (run_copy / "report.html").read_text(encoding="utf-8")
     assert "verified_error_pct" not in text and "Verification and tolerance" not in text
+    assert "in spec [%]" not in _parse(run_copy / "report.html").headers
     table.insert(6, "verified_error_pct", np.linspace(0.5, 1.5, len(table)))
-    table.insert(7, "in_spec_share", 0.987)
+    table.insert(4, "in_spec_share", 0.987)
     table.to_csv(run_copy / "pareto.csv", index=False)
     build_report(read_run(run_copy))
     text = (run_copy / "report.html").read_text(encoding="utf-8")
     page = _parse(run_copy / "report.html")
-    assert "verified_error_pct" in page.headers and "in_spec_share" in page.headers
-    assert "Verification and tolerance" in text and "0.987" in text
+    assert "verified_error_pct" in page.headers and "in spec [%]" in page.headers
+    col = page.headers.index("in spec [%]")
+    assert all(row[col] == "98.7" for row in page.rows)
+    assert "Verification and tolerance" in text and "98.7 % of parts in spec" in text
+    assert "Monte Carlo standard error" in text      # the run summary says what the share means
     assert not any(h.startswith("e1_") for h in page.headers)
 
 
@@ -227,6 +231,13 @@ def test_pareto_plot_is_pure_and_labels_the_knee_and_extremes(tmp_path, monkeypa
     assert not any(t.startswith("D05") for t in texts)
     assert all(ax.get_xlabel() and ax.get_ylabel() for ax in fig.axes)
     assert any(ax.get_yscale() == "log" or ax.get_xscale() == "log" for ax in fig.axes)  # size spans decades
+    plt.close(fig)
+    # the in-spec share colours the feasible dots, on a labelled 0-100 % bar
+    fig = plot_pareto(ids, F, feas, stress_limit=0.8, in_spec=np.array([0.9, 0.5, 0.1, 1.0, 0.0]))
+    bar = fig.axes[-1]
+    assert len(fig.axes) == 4 and "in spec" in bar.get_ylabel() and bar.get_ylim() == (0.0, 100.0)
+    dots = fig.axes[0].collections[0]
+    np.testing.assert_allclose(dots.get_array(), [90.0, 50.0, 10.0, 100.0])
     plt.close(fig)
     assert calls == [] and list(tmp_path.iterdir()) == []
 

@@ -73,6 +73,8 @@ CASES = {
     "search.offset_step_mm": ("0.1", lambda st: st.search.offset_step_mm, 0.1, ()),
     "stock.wire_mm": ("[0.5, 1.0, 0.8]", lambda st: st.stock.wire_mm, (0.5, 0.8, 1.0), ()),
     "stock.strip_mm": ("[0.2, 0.1, 0.3]", lambda st: st.stock.strip_mm, (0.1, 0.2, 0.3), ()),
+    "limits.in_spec_share": ("0.9", lambda st: st.limits.in_spec_share, 0.9, ()),
+    "limits.band_pct": ("5", lambda st: st.limits.band_pct, 5.0, ()),
     "limits.fatigue_ratio": ("0.7", lambda st: st.limits.fatigue_ratio, 0.7, ("duty.cycles=1e6",)),
     "search.objectives": ('["curve_error_pct", "stress_ratio", "size_mm3", "fatigue_ratio"]',
                           lambda st: st.search.objectives,
@@ -155,6 +157,11 @@ def test_rerun_budget_options_pass_through(parent, captured, tmp_path):
     ("stock.wire_mm=[0.5, 0.5]", ["[stock].wire_mm", "0.5 mm twice"]),
     ("stock.wire=[1.0]", ["did you mean 'wire_mm'"]),
     ("duty.stroke_max_mm=60", ["stroke_max_mm = 60", "beyond the target's last point"]),
+    ("limits.in_spec_share=90", ["[limits].in_spec_share", "from 0 to 1", "90"]),
+    ("limits.band_pct=-5", ["[limits].band_pct", "-5"]),
+    ('search.objectives=["curve_error_pct", "stress_ratio", "size_mm3", "in_spec"]',
+     ["unknown objective 'in_spec'", "did you mean 'in_spec_share'"]),
+    ('search.objectives=["curve_error_pct", "in_spec_share"]', ["missing stress_ratio, size_mm3"]),
 ])
 def test_malformed_set_is_one_line(parent, tmp_path, setting, words):
     before = sorted(p.name for p in parent.iterdir())

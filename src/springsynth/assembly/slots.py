@@ -92,6 +92,11 @@ class Slots:
     def n_slots(self) -> int:
         return self.kind.shape[1]
 
+    def take(self, rows: np.ndarray) -> "Slots":
+        """The designs of ``rows`` (indices or a boolean mask over n), same kinds and materials."""
+        return Slots(self.kind[rows], self.material[rows], self.count[rows], self.offset_mm[rows], self.params[rows],
+                     self.kinds, self.materials, self.link[rows], self.chain_count[rows])
+
     @classmethod
     def from_designs(cls, designs: Sequence[Design], n_slots: int | None = None,
                      kinds: Sequence[ElementKind] | None = None,

@@ -309,14 +309,17 @@ class ToleranceResult:
     curve_error_pct : ndarray, shape (N,) or None
         With a target.
     in_band : ndarray of bool, shape (N,) or None
-        With a target that has a band.
+        With a target: inside its band, or where it has none within +- ``band_pct`` % of its force
+        (:meth:`Target.spec_band`), at every target point.
     share_in_band : float
-        Share of samples inside the target band at every point (NaN without a band).
+        Share of samples in ``in_band`` (NaN without a target).
     samples : pandas.DataFrame
         One row per sample: the drawn values and summary numbers.
     sensitivity : pandas.DataFrame
         One row per perturbed quantity, ranked by ``spread_pct``.
     process : str
+    band_pct : float
+        The band where the target has none, +- % of the target force.
     """
 
     design: str
@@ -333,6 +336,7 @@ class ToleranceResult:
     samples: object = field(repr=False)
     sensitivity: object = field(repr=False)
     process: str = "auto"
+    band_pct: float = 10.0
 
     def to_frame(self):
         """The force band: ``displacement_mm, nominal_N, p05_N, p50_N, p95_N``."""
@@ -378,7 +382,7 @@ def _source(q: Param, mat: Material) -> str:
 
 
 def tolerance_analysis(design: Design, x_mm: np.ndarray, *, target=None, n_samples: int = 2000, seed: int = 0,
-                       process: str = "auto") -> ToleranceResult:
+                       process: str = "auto", band_pct: float = 10.0) -> ToleranceResult:
     """Monte Carlo of ``design`` over its manufacturing tolerances (module notes).
 
     Parameters
@@ -387,13 +391,16 @@ def tolerance_analysis(design: Design, x_mm: np.ndarray, *, target=None, n_sampl
     x_mm : ndarray, shape (m,)
         Stroke points, mm.
     target : Target, optional
-        For the curve error and, when it has a band, the share of parts in spec.
+        For the curve error and the share of parts in spec (inside its band or, where it has
+        none, within +- ``band_pct`` % of its force: :meth:`Target.spec_band`).
     n_samples : int
         Monte Carlo samples N (all evaluated in one vectorised call).
     seed : int
     process : str
         ``auto`` (by kind and material) or a process of :data:`PROCESSES` forced on the
         linear dimensions.
+    band_pct : float
+        % of the target force, for a target without a band (``limits.band_pct``).
 
     Returns
     -------
@@ -429,10 +436,10 @@ def tolerance_analysis(design: Design, x_mm: np.ndarray, *, target=None, n_sampl
     F = F_all[:n_samples]
     F0 = F_all[-1]
     sens_df = _sensitivity_table(quants, F_all[n_samples:], steps)
-    cols, err, inb, share = _sample_table(quants, z, F, r.stress_ratio[:n_samples], x, target)
+    cols, err, inb, share = _sample_table(quants, z, F, r.stress_ratio[:n_samples], x, target, band_pct)
     p05, p50, p95 = np.percentile(F, [5.0, 50.0, 95.0], axis=0)
     return ToleranceResult(design.name, x, F0, p05, p50, p95, F, r.stress_ratio[:n_samples], err, inb, share,
-                           pd.DataFrame(cols), sens_df, process)
+                           pd.DataFrame(cols), sens_df, process, band_pct)
 
 
 def _sensitivity_rows(quants, S: int, P: int):
@@ -485,13 +492,14 @@ def _sensitivity_table(quants, F_rows: np.ndarray, steps: np.ndarray):
     return pd.DataFrame(sens).sort_values("spread_pct", ascending=False, ignore_index=True)
 
 
-def _sample_table(quants, z: np.ndarray, F: np.ndarray, stress_ratio: np.ndarray, x: np.ndarray, target):
+def _sample_table(quants, z: np.ndarray, F: np.ndarray, stress_ratio: np.ndarray, x: np.ndarray, target,
+                  band_pct: float = 10.0):
     """Columns of the samples table, and the curve error and band check against ``target``.
 
     ``z`` shape (N, S, P + 2): the draws in sigmas; ``F`` (N, m) and ``stress_ratio`` (N,)
     the samples' forces and stress ratios at ``x`` (m,). Returns ``(columns, curve_error_pct,
     in_band, share_in_band)``: a dict of (N,) arrays, (N,) or None, (N,) bool or None, and a
-    float (NaN without a band).
+    float (NaN without a target; a target without a band: +- ``band_pct`` %, :meth:`Target.spec_band`).
     """
     P = z.shape[2] - 2
     n_samples = len(F)
@@ -512,10 +520,9 @@ def _sample_table(quants, z: np.ndarray, F: np.ndarray, stress_ratio: np.ndarray
         with np.errstate(all="ignore"):
             err = target.curve_error_pct(Ft)
         cols["curve_error_pct"] = err
-        if target.has_band:
-            inb = target.in_band(Ft)
-            share = float(np.mean(inb))
-            cols["in_band"] = inb
+        inb = target.in_spec(Ft, band_pct)
+        share = float(np.mean(inb))
+        cols["in_band"] = inb
     return cols, err, inb, share
 
 

@@ -98,6 +98,8 @@ def write_run(res: Synthesis, out: Path, *, parent: str | None = None, overrides
         "timings_s": res.timings, "polish": res.polish, "versions": _versions(),
         "history": res.history, "caution": CAUTION,
     }
+    if getattr(res, "yield_samples", 0):
+        meta["yield_samples"] = res.yield_samples
     if res.checkpoint is not None:
         write_bytes_atomic(folder / CHECKPOINT, res.checkpoint)
     write_text_atomic(folder / "run.json", json.dumps(_plain(meta), indent=1) + "\n")

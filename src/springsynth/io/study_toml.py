@@ -48,7 +48,8 @@ MAX_SCALE = 1e6
 _SCHEMA: dict[str, set[str] | None] = {
     "name": None, "description": None, "target": {"file", "scale_force", "scale_stroke"},
     "envelope": {"length_mm", "width_mm", "height_mm"},
-    "limits": {"stress_ratio", "min_thickness_mm", "max_mass_g", "max_error_pct", "fatigue_ratio"},
+    "limits": {"stress_ratio", "min_thickness_mm", "max_mass_g", "max_error_pct", "fatigue_ratio", "in_spec_share",
+               "band_pct"},
     "search": {"elements", "materials", "max_elements", "max_chain", "max_count", "population", "generations", "seed",
                "polish", "verify_top", "robust", "objectives", "stock", "offset_step_mm"},
     "materials": None, "duty": DUTY_KEYS, "stock": {"wire_mm", "strip_mm"},
@@ -176,7 +177,17 @@ def _limits(given: Mapping[str, Any], where: str) -> Limits:
         max_mass_g=_num(given["max_mass_g"], at + "max_mass_g", lo=0.0) if "max_mass_g" in given else math.inf,
         max_error_pct=_num(lim["max_error_pct"], at + "max_error_pct", lo=0.0),
         fatigue_ratio=_num(lim["fatigue_ratio"], at + "fatigue_ratio", lo=0.0),
+        in_spec_share=_share(lim["in_spec_share"], at + "in_spec_share"),
+        band_pct=float(_num(lim["band_pct"], at + "band_pct", lo=0.0, hi=100.0)),
     )
+
+
+def _share(v: Any, where: str) -> float:
+    """A share of parts from 0 to 1 (0: no constraint); a percentage is refused with the fix."""
+    v = _num(v, where, lo=0.0, strict=False)
+    if v > 1:
+        raise InputError(f"must be a share from 0 to 1 (0.9 = 90 % of parts), got {v!r}", where=where)
+    return float(v)
 
 
 def _kinds(s: Mapping[str, Any], where: str) -> tuple[ElementKind, ...]:

@@ -23,12 +23,14 @@ if TYPE_CHECKING:   # the kinds are elements (the layer above); a study only hol
     from springsynth.elements import ElementKind
 
 __all__ = ["Envelope", "Limits", "SearchOptions", "StockSizes", "Duty", "Study", "DEFAULTS", "OBJECTIVES",
-           "BASE_OBJECTIVES", "STOCK_MODES", "curve_grid"]
+           "BASE_OBJECTIVES", "MAXIMISED", "STOCK_MODES", "curve_grid"]
 
 #: objectives every search minimises, in this order (the first three columns of ``Scores.F``)
 BASE_OBJECTIVES = ("curve_error_pct", "stress_ratio", "size_mm3")
 #: every objective a study may name in ``[search] objectives`` (the base three, then optional ones)
-OBJECTIVES = BASE_OBJECTIVES + ("fatigue_ratio",)
+OBJECTIVES = BASE_OBJECTIVES + ("fatigue_ratio", "in_spec_share")
+#: objectives maximised (the search minimises ``1 - value`` in their place; tables report the value)
+MAXIMISED = ("in_spec_share",)
 #: values of ``[search] stock``: sizes from the stock lists and practical resolution, or every value free
 STOCK_MODES = ("standard", "continuous")
 #: most cycles a duty may ask for (no fatigue data reach further)
@@ -59,6 +61,14 @@ class Limits:
     max_error_pct: float = 20.0
     #: largest fatigue ratio (1 / the Goodman factor of safety) under the study's [duty]
     fatigue_ratio: float = 1.0
+    #: least share of parts inside the band under process tolerances (0: no such constraint)
+    in_spec_share: float = 0.0
+    #: the band where the target gives none: +- this % of the target force (Target.spec_band)
+    band_pct: float = 10.0
+
+    def __setstate__(self, state: dict) -> None:
+        """Unpickle (a checkpoint), filling limits added since it was written with their defaults."""
+        self.__dict__.update({**_defaults(type(self)), **state})
 
 
 @dataclass(frozen=True)
@@ -186,6 +196,11 @@ class Study:
     duty: Duty | None = None
     #: the study's own stock sizes (``[stock]``)
     stock: StockSizes = StockSizes()
+
+    @property
+    def wants_yield(self) -> bool:
+        """Whether the search itself needs the in-spec share (a constraint or an objective)."""
+        return self.limits.in_spec_share > 0 or "in_spec_share" in self.search.objectives
 
     def hash(self) -> str:
         """SHA-256 of the study's content and its target file's bytes (first 16 hex digits)."""

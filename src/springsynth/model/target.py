@@ -9,7 +9,12 @@ import numpy as np
 
 from springsynth.model.errors import InputError
 
-__all__ = ["Target", "target_from_arrays"]
+__all__ = ["Target", "target_from_arrays", "BAND_FLOOR_SHARE"]
+
+#: where a target has no band of its own, the band is +- band_pct % of the target force, but
+#: never narrower than +- band_pct % of this share of max|F_target| (project choice, see
+#: :meth:`Target.spec_band`)
+BAND_FLOOR_SHARE = 0.2
 
 
 @dataclass(frozen=True)
@@ -115,6 +120,25 @@ class Target:
         """``100 RMS_w(F - F_target) / max|F_target|`` for forces of shape (n, m) -> (n,)."""
         r = force_N - self.force_N
         return 100.0 * np.sqrt((r * r) @ self.weight / self.weight.sum()) / self.scale_N
+
+    def spec_band(self, band_pct: float) -> tuple[np.ndarray, np.ndarray]:
+        """The acceptance band ``(lo, hi)`` in N, each shape (m,): the target's own band when it has one.
+
+        Without one: ``F_target +- h`` with ``h = band_pct / 100 * max(|F_target|, BAND_FLOOR_SHARE *
+        max|F_target|)``: +- ``band_pct`` % of the target force (10 % is common practice for
+        spring loads), except that near zero force, where a relative band would shrink to nothing
+        and no maker tolerances a load, the band keeps the width it has at a fifth of the peak
+        force (project choice).
+        """
+        if self.has_band:
+            return self.force_lo_N, self.force_hi_N
+        h = band_pct / 100.0 * np.maximum(np.abs(self.force_N), BAND_FLOOR_SHARE * self.scale_N)
+        return self.force_N - h, self.force_N + h
+
+    def in_spec(self, force_N: np.ndarray, band_pct: float) -> np.ndarray:
+        """Whether each curve (n, m) lies inside :meth:`spec_band` at every target point, shape (n,)."""
+        lo, hi = self.spec_band(band_pct)
+        return np.all((force_N >= lo) & (force_N <= hi), axis=1)
 
     def in_band(self, force_N: np.ndarray) -> np.ndarray:
         """Whether each curve (n, m) lies inside the band at every point, shape (n,)."""

@@ -73,11 +73,12 @@ def run_jobs(jobs: Sequence[Job], *, workers: int = 1) -> dict[str, Any]:
 # ------------------------------------------------------------------------- the jobs' functions
 
 
-def pareto_png(ids: Sequence[str], F: np.ndarray, feasible: np.ndarray, stress_limit: float) -> bytes:
+def pareto_png(ids: Sequence[str], F: np.ndarray, feasible: np.ndarray, stress_limit: float,
+               in_spec: np.ndarray | None = None) -> bytes:
     from springsynth.report.plots import plot_pareto
     from springsynth.report.style import png_bytes
 
-    return png_bytes(plot_pareto(ids, F, feasible, stress_limit=stress_limit))
+    return png_bytes(plot_pareto(ids, F, feasible, stress_limit=stress_limit, in_spec=in_spec))
 
 
 def curves_png(target: Target, x: np.ndarray, curves: Mapping[str, np.ndarray], errors: Mapping[str, float]) -> bytes:

@@ -43,8 +43,8 @@ __all__ = ["render_report", "RenderedReport", "ReportInput", "REPORT", "BASE_COL
 REPORT = "report.html"
 #: pareto.csv columns every run has; any other column that is not an element parameter
 #: (``e<j>_...``), e.g. ``verified_error_pct`` from ``springsynth verify``, is shown as extra
-BASE_COLUMNS = ("design_id", "curve_error_pct", "stress_ratio", "size_mm3", "fatigue_ratio", "mass_g", "feasible",
-                "topology", "violations")
+BASE_COLUMNS = ("design_id", "curve_error_pct", "stress_ratio", "size_mm3", "fatigue_ratio", "in_spec_share",
+                "mass_g", "feasible", "topology", "violations")
 _PARAM_COLUMN = re.compile(r"^e\d+_")
 _ROLE_ORDER = ("lowest error", "knee", "smallest", "lowest stress")
 
@@ -78,6 +78,13 @@ def _objectives(table: pd.DataFrame) -> np.ndarray:
         if c in table:
             F[:, j] = pd.to_numeric(table[c], errors="coerce").to_numpy(float)
     return F
+
+
+def _in_spec(table: pd.DataFrame) -> np.ndarray | None:
+    """The ``in_spec_share`` column (a run written before it existed has none: None)."""
+    if "in_spec_share" not in table:
+        return None
+    return pd.to_numeric(table["in_spec_share"], errors="coerce").to_numpy(float)
 
 
 def extra_columns(table: pd.DataFrame) -> list[str]:
@@ -118,7 +125,7 @@ def _figures(run: ReportInput, workers: int):
         reps = representatives(ids, F, feas)
         for role in _ROLE_ORDER:
             roles.setdefault(ids[reps[role]], []).append(role)
-        jobs.append(("pareto.png", FG.pareto_png, (ids, F, feas, limit), {}))
+        jobs.append(("pareto.png", FG.pareto_png, (ids, F, feas, limit, _in_spec(run.table)), {}))
         if st.duty is not None and "fatigue_ratio" in run.table:
             fat = pd.to_numeric(run.table["fatigue_ratio"], errors="coerce").to_numpy(float)
             jobs.append(("pareto_fatigue.png", FG.pareto_fatigue_png, (ids, F, fat, feas, st.limits.fatigue_ratio), {}))
@@ -234,6 +241,11 @@ def _pct(v) -> str:
     return _number(v, lambda f: _e(pct_text(f, suffix="")))
 
 
+def _share(v) -> str:
+    """A share of parts (0 ... 1) as a percentage with one decimal (the column header carries the unit)."""
+    return _number(v, lambda f: _e(pct_text(100.0 * f, decimals=1, suffix="")))
+
+
 def _extra_num(column: str, v) -> str:
     """An extra column's number: percentages (``*_pct``) as percentages, others to four digits."""
     return _pct(v) if str(column).endswith("_pct") else _num(v)
@@ -286,7 +298,11 @@ def _summary(run: ReportInput) -> str:
         lims.append(f"fatigue ratio ≤ {lim.fatigue_ratio:g}")
         rows.append(("duty", f"{cycles_text(du.cycles)} cycles between strokes {du.stroke_min_mm:g} and "
                              f"{du.stroke_max_mm:g} mm" + (", shot-peened coil springs" if du.shot_peened else "")))
+    if lim.in_spec_share > 0:
+        lims.append(f"parts in spec ≥ {pct_text(100 * lim.in_spec_share, decimals=1)}")
     rows.append(("limits", "; ".join(lims)))
+    if "in_spec_share" in run.table:
+        rows.append(("in spec", _in_spec_note(st, m.get("yield_samples"))))
     s = st.search
     rows.append(("search space", f"kinds {_e(', '.join(k.name for k in s.kinds))}; materials "
                                  f"{_e(', '.join(mm.id for mm in s.materials))}; up to {s.max_elements} elements, "
@@ -319,14 +335,34 @@ def _summary(run: ReportInput) -> str:
     return "<dl class=summary>" + "".join(f"<dt>{k}</dt><dd>{val}</dd>" for k, val in rows) + "</dl>"
 
 
+def _in_spec_note(st: Study, n_samples) -> str:
+    """What the in-spec share of the table means, with its Monte Carlo standard error."""
+    from springsynth.checks.in_spec import worst_standard_error
+    from springsynth.model.target import BAND_FLOOR_SHARE
+
+    band = ("the target's band" if st.target.has_band else
+            f"±{st.limits.band_pct:g} % of the target force (never narrower than ±{st.limits.band_pct:g} % of "
+            f"{pct_text(100 * BAND_FLOOR_SHARE, decimals=0)} of the peak target force)")
+    text = (f"share of parts whose force lies inside {band} at every target point, the parts drawn from the "
+            f"process tolerances of each dimension, offset and modulus (the same draws for every design, "
+            f"seeded by the run seed)")
+    if isinstance(n_samples, int) and n_samples > 0:
+        se = 100 * worst_standard_error(n_samples)
+        text += (f"; {n_samples} parts per design: Monte Carlo standard error √(p(1−p)/{n_samples}), at most "
+                 f"{se:.1f} points (at 50 %), less towards 0 and 100 %")
+    return _e(text)
+
+
 def _pareto_table(run: ReportInput, roles: Mapping[str, list[str]]) -> str:
     tab = run.table
     feas = _feasible(tab)
     extras = extra_columns(tab)
     by_id = {d.name: d for d in run.designs}
     fat = "fatigue_ratio" in tab
+    spec = "in_spec_share" in tab
     head = [("id", False), ("curve error [%]", True), ("stress ratio [-]", True), ("size [mm³]", True)]
     head += [("fatigue ratio [-]", True)] if fat else []
+    head += [("in spec [%]", True)] if spec else []
     head += [("mass [g]", True), ("feasible", False)]
     head += [(c, _is_numeric(tab[c])) for c in extras]
     head += [("topology", False)]
@@ -342,6 +378,8 @@ def _pareto_table(run: ReportInput, roles: Mapping[str, list[str]]) -> str:
                  _cell(r.get("size_mm3"), numeric=True, text=_num(r.get("size_mm3"), ".4g"))]
         if fat:
             cells.append(_cell(r.get("fatigue_ratio"), numeric=True, text=_num(r.get("fatigue_ratio"), ".3g")))
+        if spec:
+            cells.append(_cell(r.get("in_spec_share"), numeric=True, text=_share(r.get("in_spec_share"))))
         cells += [_cell(r.get("mass_g"), numeric=True, text=_num(r.get("mass_g"), ".3g")),
                  f'<td data-v="{int(feas[i])}"><span class="badge {"ok" if feas[i] else "no"}">'
                  f'{"yes" if feas[i] else "no"}</span></td>']
@@ -442,6 +480,8 @@ def _card(run: ReportInput, i: int, d: Design, r: Response, png: bytes | None, r
              f"mass {_num(row.get('mass_g'), '.3g')} g"]
     if "fatigue_ratio" in run.table:
         facts.insert(2, f"fatigue ratio {_num(row.get('fatigue_ratio'), '.3g')}")
+    if "in_spec_share" in run.table:
+        facts.append(f"{_share(row.get('in_spec_share'))} % of parts in spec")
     if r.snap_mm is not None and math.isfinite(r.snap_mm[0]):
         facts.append(f"a chain snaps at x = {r.snap_mm[0]:.3g} mm (the force jumps)")
     parts = [f'<section class=card id="card-{_e(d.name)}"><h3>{_e(d.name)} {badge}{tags}</h3>',
@@ -486,8 +526,9 @@ def _html(run: ReportInput, figs: Mapping[str, bytes], per_design: Mapping[str, 
     name = run.meta.get("study", run.study.name)
     caution = f'<div class=caution role=note><b>Caution.</b> {_e(CAUTION)}</div>'
     captions = {
-        "pareto.png": ("Trade-offs", "Each dot is a Pareto design; the knee (best balance after scaling each "
-                                     "objective to the set's range) and the extremes are ringed and labelled."),
+        "pareto.png": ("Trade-offs", "Each dot is a Pareto design, coloured by its share of parts in spec under "
+                                     "process tolerances (when the run has it); the knee (best balance after scaling "
+                                     "each objective to the set's range) and the extremes are ringed and labelled."),
         "pareto_fatigue.png": ("Fatigue trade-offs", "Each Pareto design's fatigue ratio under the study's duty "
                                                      "(1 / the Goodman factor of safety) against curve error and "
                                                      "size; the shaded band meets limits.fatigue_ratio."),

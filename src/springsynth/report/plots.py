@@ -181,7 +181,8 @@ _OBJ = [("curve_error_pct", "curve error [%]"), ("stress_ratio", "peak stress ra
 
 
 @styled
-def plot_pareto(ids: Sequence[str], F: np.ndarray, feasible: np.ndarray, *, stress_limit: float | None = None):
+def plot_pareto(ids: Sequence[str], F: np.ndarray, feasible: np.ndarray, *, stress_limit: float | None = None,
+                in_spec: np.ndarray | None = None):
     """Pairwise trade-off panels of curve error, stress ratio and size.
 
     Parameters
@@ -193,11 +194,13 @@ def plot_pareto(ids: Sequence[str], F: np.ndarray, feasible: np.ndarray, *, stre
     feasible : ndarray of bool, shape (n,)
     stress_limit : float, optional
         ``limits.stress_ratio``, drawn as a line.
+    in_spec : ndarray, shape (n,), optional
+        Each design's share of parts in spec (0 ... 1): the colour of its dot, with a colour bar.
 
     Returns
     -------
     matplotlib.figure.Figure
-        Feasible designs as filled dots, infeasible ones as grey crosses; the knee
+        Feasible designs as filled dots (coloured by ``in_spec`` when given), infeasible ones as grey crosses; the knee
         and the extreme designs ringed and labelled by id. An axis whose values span
         more than about a decade is logarithmic.
     """
@@ -208,13 +211,14 @@ def plot_pareto(ids: Sequence[str], F: np.ndarray, feasible: np.ndarray, *, stre
     reps = representatives(ids, F, feasible) if len(ids) else {}
     roles = roles_by_row(reps)
     log = [False, _wants_log(F[:, 1], 2.0), _wants_log(F[:, 2])]
-    handles = {}
+    handles, dots = {}, None
+    share = None if in_spec is None or not np.isfinite(in_spec).any() else 100.0 * np.asarray(in_spec, float)
     for ax, (a, b) in zip(axes, pairs):
         ok = feasible & np.isfinite(F[:, a]) & np.isfinite(F[:, b])
         bad = ~feasible & np.isfinite(F[:, a]) & np.isfinite(F[:, b])
         if ok.any():
-            handles["feasible design"] = ax.scatter(F[ok, a], F[ok, b], s=28, color=FEASIBLE, edgecolor="white",
-                                                    lw=0.5, zorder=4)
+            dots = _feasible_dots(ax, F[ok, a], F[ok, b], None if share is None else share[ok])
+            handles["feasible design"] = dots
         if bad.any():
             handles["infeasible design"] = ax.scatter(F[bad, a], F[bad, b], s=26, marker="x", color=INFEASIBLE,
                                                       lw=1.2, zorder=3)
@@ -239,12 +243,13 @@ def plot_pareto(ids: Sequence[str], F: np.ndarray, feasible: np.ndarray, *, stre
             ax.set_ylim(min(lo, 0.0), max(hi, stress_limit * 1.08))
         ax.set_title(f"{_OBJ[b][1].split(' [')[0]} vs {_OBJ[a][1].split(' [')[0]}", fontsize=9.5)
     n_bad = int((~np.all(np.isfinite(F), axis=1)).sum())
-    sub = "all three objectives: lower is better"
+    sub = "all three objectives: lower is better" + ("; colour: share of parts in spec" if share is not None else "")
     if n_bad:
         sub += f"; {n_bad} design(s) with a non-finite objective not shown"
     fig.suptitle("Pareto set: curve error, stress and size traded off", fontweight="bold", y=0.995)
     fig.text(0.5, 0.93, sub, ha="center", va="top", color=MUTED, fontsize=8.5)
-    fig.tight_layout(rect=(0, 0.07, 1, 0.93))
+    fig.tight_layout(rect=(0, 0.07, 1 if share is None else 0.92, 0.93))
+    _share_bar(fig, dots if share is not None else None)
     if handles:
         fig.legend(list(handles.values()), list(handles), loc="lower center", ncol=len(handles), fontsize=8.5,
                    bbox_to_anchor=(0.5, 0.0))
@@ -254,6 +259,24 @@ def plot_pareto(ids: Sequence[str], F: np.ndarray, feasible: np.ndarray, *, stre
         fin = np.all(np.isfinite(F[:, [a, b]]), axis=1)
         _place_labels(ax, items, F[fin][:, [a, b]], hlines=[stress_limit] if b == 1 else [])
     return fig
+
+
+def _share_bar(fig, dots) -> None:
+    """The colour bar of the in-spec share at the right of the figure (nothing without ``dots``)."""
+    if dots is None:
+        return
+    bar = fig.colorbar(dots, cax=fig.add_axes((0.935, 0.2, 0.012, 0.62)))
+    bar.set_label("parts in spec [%]\n(higher is better)", fontsize=8.5)
+    bar.ax.tick_params(labelsize=8)
+
+
+def _feasible_dots(ax, x: np.ndarray, y: np.ndarray, share: np.ndarray | None):
+    """Feasible designs as dots, in the design colour or, given ``share`` (%, shape of ``x``), coloured
+    by it on a fixed 0 ... 100 % scale (viridis: colour-blind safe, lighter is higher)."""
+    if share is None:
+        return ax.scatter(x, y, s=28, color=FEASIBLE, edgecolor="white", lw=0.5, zorder=4)
+    return ax.scatter(x, y, s=34, c=np.nan_to_num(share, nan=0.0), cmap="viridis", vmin=0.0, vmax=100.0,
+                      edgecolor=INK, lw=0.4, zorder=4)
 
 
 # ------------------------------------------------------------------------- curves
@@ -383,9 +406,10 @@ def plot_tolerance(res: ToleranceResult, *, target=None, ax=None):
     ax.plot(x, res.p50_N, color="tab:blue", lw=1.2, ls="--", label="parts: median")
     ax.plot(x, res.nominal_N, color="tab:blue", lw=2.0, label="nominal design")
     if target is not None:
-        if target.has_band:
-            ax.plot(target.x_mm, target.force_lo_N, color="black", lw=1.0, ls=":", label="target band")
-            ax.plot(target.x_mm, target.force_hi_N, color="black", lw=1.0, ls=":")
+        lo, hi = target.spec_band(res.band_pct)
+        label = "target band" if target.has_band else f"±{res.band_pct:g} % band (limits.band_pct)"
+        ax.plot(target.x_mm, lo, color="black", lw=1.0, ls=":", label=label)
+        ax.plot(target.x_mm, hi, color="black", lw=1.0, ls=":")
         ax.plot(target.x_mm, target.force_N, "o", color="black", ms=3.5, label="target")
     title = f"{res.design}: {res.force_N.shape[0]} Monte Carlo parts"
     if math.isfinite(res.share_in_band):

@@ -85,15 +85,19 @@ def materials_table(materials: Iterable[Material], kinds: Iterable[ElementKind])
 
 def pareto_table(frame, title: str, rows: int = 12) -> Table:
     """The first ``rows`` designs of a Pareto table (``Synthesis.to_frame()``): id, error, stress
-    ratio, size, mass and the topology, which alone wraps."""
+    ratio, size, share of parts in spec, mass and the topology, which alone wraps."""
     t = Table(title=escape(title), title_justify="left")
     fat = "fatigue_ratio" in frame        # only under a duty
-    for c in ("id", "error %", "stress ratio", "size mm³") + ("fatigue ratio",) * fat + ("mass g", "topology"):
+    spec = "in_spec_share" in frame
+    for c in (("id", "error %", "stress ratio", "size mm³") + ("fatigue ratio",) * fat + ("in spec %",) * spec
+              + ("mass g", "topology")):
         t.add_column(c, justify="left" if c in ("id", "topology") else "right", overflow="fold",
                      no_wrap=c != "topology")
     for _, r in frame.head(rows).iterrows():
         t.add_row(escape(str(r.design_id)), pct_text(r.curve_error_pct, suffix=""), f"{r.stress_ratio:.3g}",
-                  size_text(r.size_mm3), *([f"{r.fatigue_ratio:.3g}"] if fat else []), f"{r.mass_g:.3g}", escape(r.topology))
+                  size_text(r.size_mm3), *([f"{r.fatigue_ratio:.3g}"] if fat else []),
+                  *([pct_text(100 * r.in_spec_share, decimals=1, suffix="")] if spec else []), f"{r.mass_g:.3g}",
+                  escape(r.topology))
     return t
 
 

@@ -51,8 +51,9 @@ def take(sc: Scores, rows) -> Scores:
     return Scores(sc.F[rows], sc.G[rows], sc.response)
 
 
-def pareto_front(study, enc, X, sc: Scores, max_designs: int):
-    """Feasible non-dominated designs (distinct), or the least-violating ones when none is feasible."""
+def pareto_front(study, enc, X, sc: Scores, max_designs: int, *, yield_samples: int | None = None):
+    """Feasible non-dominated designs (distinct), or the least-violating ones when none is feasible;
+    their scores are taken again with ``yield_samples`` parts for the in-spec share (:func:`score`)."""
     ok = sc.feasible
     if ok.any():
         idx = np.flatnonzero(ok)
@@ -70,7 +71,7 @@ def pareto_front(study, enc, X, sc: Scores, max_designs: int):
         feasible = False
     front = front[np.lexsort((sc.F[front, 2], sc.F[front, 0]))]
     sub = enc.decode(X[front])
-    return X[front], score(study, sub), feasible
+    return X[front], score(study, sub, yield_samples=yield_samples), feasible
 
 
 def _thin(Z, idx, k):

@@ -192,12 +192,15 @@ def _stopped(state: _State, t0: float, max_designs: int) -> SearchOutcome:
 
 
 def _finish(state: _State, t0: float, polish: bool, max_designs: int) -> SearchOutcome:
-    """The front of the last population, then the final polish."""
+    """The front of the last population, then the final polish. Where the study asks for the in-spec
+    share, the front is chosen on the share of ``SETTINGS.yield_samples`` parts (the loop's
+    small sample are their first parts): ties and lucky draws of the small sample are settled there."""
     study, enc = state.problem.study, state.problem.enc
     t_search = time.perf_counter() - t0
     Xpop = state.algo.pop.get("X")
-    sc_pop = score(study, enc.decode(Xpop))
-    X, sc, feasible_found = pareto_front(study, enc, Xpop, sc_pop, max_designs)
+    full = SETTINGS.yield_samples      # the front is chosen on the full sample of the in-spec share
+    sc_pop = score(study, enc.decode(Xpop), yield_samples=full)
+    X, sc, feasible_found = pareto_front(study, enc, Xpop, sc_pop, max_designs, yield_samples=full)
     out = SearchOutcome(X=X, scores=sc, feasible_found=feasible_found, history=state.history,
                         evaluations=state.evaluations, study=study, budget=state.budget)
     t1 = time.perf_counter()
@@ -220,8 +223,10 @@ def _final_polish(out: SearchOutcome, study: Study, enc: Encoding, Xpop: np.ndar
     X2, info = polish_designs(study, enc, Xpop[starts], take(sc_pop, starts))
     if len(X2):
         allX = np.vstack([Xpop, X2])
-        out.X, out.scores, out.feasible_found = pareto_front(study, enc, allX, score(study, enc.decode(allX)),
-                                                             max_designs)
+        full = SETTINGS.yield_samples
+        out.X, out.scores, out.feasible_found = pareto_front(study, enc, allX,
+                                                             score(study, enc.decode(allX), yield_samples=full),
+                                                             max_designs, yield_samples=full)
     out.polish = info
     out.evaluations += info["evaluations"]
 

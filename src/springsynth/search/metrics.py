@@ -12,12 +12,13 @@ __all__ = ["normalised_objectives", "hypervolume"]
 
 def normalised_objectives(study: Study, F: np.ndarray) -> np.ndarray:
     """Objectives scaled by their feasible ranges for the hypervolume: error / limits.max_error_pct,
-    stress ratio / limits.stress_ratio, size / envelope volume, fatigue ratio / limits.fatigue_ratio
-    (a feasible design lies in the unit cube)."""
+    stress ratio / limits.stress_ratio, size / envelope volume, fatigue ratio / limits.fatigue_ratio,
+    1 - in-spec share as it is (a feasible design lies in the unit cube)."""
     env = study.envelope
     lim = study.limits
     scale = {"curve_error_pct": lim.max_error_pct, "stress_ratio": lim.stress_ratio,
-             "size_mm3": env.length_mm * env.width_mm * env.height_mm, "fatigue_ratio": lim.fatigue_ratio}
+             "size_mm3": env.length_mm * env.width_mm * env.height_mm, "fatigue_ratio": lim.fatigue_ratio,
+             "in_spec_share": 1.0}
     return np.stack([F[:, j] / scale[o] for j, o in enumerate(study.search.objectives)], axis=1)
 
 

@@ -40,7 +40,9 @@ def polish_designs(study: Study, enc: Encoding, X: np.ndarray, sc: Scores, *, ma
     Residuals are the weighted curve misfit (its norm is ``curve_error_pct``) plus
     100 x each constraint value that comes within ``SETTINGS.polish_margin`` of its bound, so the
     optimum stays just inside the feasible set;
-    a refinement is kept only when it is feasible and lowers the error. Kinds,
+    a refinement is kept only when it is feasible and lowers the error. The in-spec share, a
+    step function of the design, is left out of both: the refinements join the population
+    (or the final front) and are scored there with it, beside the designs they came from. Kinds,
     materials, counts, whole-number and categorical parameters stay fixed. The
     Jacobian is taken by forward differences. Every design's solver runs in lockstep
     with the others (:class:`_Lockstep`): all the points they ask for at one step are
@@ -59,7 +61,7 @@ def polish_designs(study: Study, enc: Encoding, X: np.ndarray, sc: Scores, *, ma
     """
     t = study.target
     w = np.sqrt(t.weight / t.weight.sum()) * 100.0 / t.scale_N
-    cols = study_constraints(study)     # the constraints that apply; the others are -1 throughout
+    cols = study_constraints(study, smooth=True)   # those that apply and have a gradient (not the in-spec share)
 
     def residuals(blocks: list[np.ndarray]) -> list[np.ndarray]:
         """Residuals of each block of genomes, shape (rows, m + constraints), from one model call."""
@@ -91,16 +93,16 @@ def polish_designs(study: Study, enc: Encoding, X: np.ndarray, sc: Scores, *, ma
     rows = sorted(found)
     if rows:
         cand = np.array([found[i] for i in rows])
-        s_new = score(study, enc.decode(cand))
+        s_new = score(study, enc.decode(cand), with_yield=False)
         for c, i in enumerate(rows):
-            was_ok = bool(np.all(sc.G[i] <= 0))
-            if s_new.feasible[c] and (not was_ok or s_new.F[c, 0] < sc.F[i, 0] * (1 - 1e-6)):
+            was_ok = bool(np.all(sc.G[i, cols] <= 0))
+            if np.all(s_new.G[c, cols] <= 0) and (not was_ok or s_new.F[c, 0] < sc.F[i, 0] * (1 - 1e-6)):
                 kept.append(cand[c])
                 if was_ok:
                     gains.append((sc.F[i, 0], s_new.F[c, 0]))
                 else:
                     repaired += 1
-    return _summary(study, enc, X, sc, kept, gains, repaired, lock)
+    return _summary(study, enc, X, sc, kept, gains, repaired, lock, cols)
 
 
 def _solve(lock: "_Lockstep", i: int, x0: np.ndarray, free: np.ndarray, enc: Encoding, max_nfev: int,
@@ -229,8 +231,8 @@ class _Lockstep:
             return out
 
 
-def _summary(study, enc, X, sc, kept, gains, repaired, lock: _Lockstep):
-    ok = np.all(sc.G <= 0, axis=1)
+def _summary(study, enc, X, sc, kept, gains, repaired, lock: _Lockstep, cols: np.ndarray):
+    ok = np.all(sc.G[:, cols] <= 0, axis=1)
     info = {"starts": int(len(X)), "improved": len(gains), "made_feasible": repaired,
             "evaluations": int(lock.evaluations), "calls": int(lock.calls)}
     if gains:
@@ -239,7 +241,7 @@ def _summary(study, enc, X, sc, kept, gains, repaired, lock: _Lockstep):
     if ok.any():
         info["best_error_before_pct"] = float(sc.F[ok, 0].min())
     if kept:
-        s_all = score(study, enc.decode(np.array(kept)))
+        s_all = score(study, enc.decode(np.array(kept)), with_yield=False)
         info["best_error_after_pct"] = float(min(s_all.F[:, 0].min(), info.get("best_error_before_pct", np.inf)))
     return (np.array(kept) if kept else np.empty((0, X.shape[1]))), info
 

@@ -25,6 +25,9 @@ class SearchSettings:
     inject_max_nfev : int         least-squares evaluations per design in the memetic steps during the search
     inject_min_generations : int  runs shorter than this have no memetic steps (at 1/3 and 2/3 of the run)
     max_designs : int             at most this many Pareto designs are returned
+    yield_samples : int           parts per design of the in-spec share reported for every Pareto design
+    yield_search_samples : int    parts per design of the in-spec share inside the loop (a constraint or
+                                  objective): the first ones of the same common random numbers
     """
 
     crossover_prob: float = 0.9
@@ -39,6 +42,8 @@ class SearchSettings:
     inject_max_nfev: int = 25
     inject_min_generations: int = 12
     max_designs: int = 24
+    yield_samples: int = 200
+    yield_search_samples: int = 24
 
 
 #: the settings every search uses

@@ -18,9 +18,10 @@ from springsynth.model.numbers import pct_text
 from springsynth.model.study import Study
 from springsynth.search.encoding import Encoding
 from springsynth.search.loop import Progress, run_search
-from springsynth.search.scoring import CONSTRAINTS
+from springsynth.search.scoring import CONSTRAINTS, Scores, yield_constraint
+from springsynth.search.settings import SETTINGS
 
-__all__ = ["synthesize", "Synthesis", "design_table", "fitting_designs"]
+__all__ = ["synthesize", "Synthesis", "design_table", "fitting_designs", "front_yield"]
 
 _CONSTRAINT_WORDS = {
     "curve_error": "curve error exceeds limits.max_error_pct",
@@ -32,6 +33,7 @@ _CONSTRAINT_WORDS = {
     "min_thickness": "a thickness is below limits.min_thickness_mm",
     "mass": "mass exceeds limits.max_mass_g",
     "fatigue": "fatigue ratio exceeds limits.fatigue_ratio",
+    "in_spec": "share of parts in spec falls short of limits.in_spec_share",
 }
 
 
@@ -42,11 +44,13 @@ class Synthesis:
     Attributes
     ----------
     study : Study
+        The study searched, its ``search.seed`` the run's seed (the in-spec share's draws follow it).
     designs : tuple of Design
         The Pareto designs (or, when nothing is feasible, the closest designs), in
         table order; ``designs[i].name`` is the design id.
     objectives : ndarray, shape (n, k)
-        curve_error_pct, stress_ratio, size_mm3, then the study's optional objectives.
+        curve_error_pct, stress_ratio, size_mm3, then the study's optional objectives (as minimised:
+        ``in_spec_share`` as ``1 - share``; the share itself is ``in_spec_share`` below).
     constraints : ndarray, shape (n, len(CONSTRAINTS))
         Normalised constraint values (<= 0 satisfied), columns ``CONSTRAINTS``.
     mass_g : ndarray, shape (n,)
@@ -74,8 +78,10 @@ class Synthesis:
     checkpoint: bytes | None = None
     #: design id -> curve error recomputed with the independent verification solvers
     verified: dict = field(default_factory=dict)
-    #: design id -> share of Monte Carlo parts inside the target band (targets with a band)
-    in_spec: dict = field(default_factory=dict)
+    #: share of each design's parts inside the band under process tolerances, shape (n,)
+    #: (:mod:`springsynth.checks.in_spec`, ``yield_samples`` parts, common random numbers of the seed)
+    in_spec_share: np.ndarray | None = None
+    yield_samples: int = 0
     #: what the caller should know (e.g. warm-start designs left out because they no longer fit)
     notices: tuple[str, ...] = ()
     #: worst fatigue ratio of each design under the study's duty, shape (n,); None without a duty
@@ -116,8 +122,9 @@ def design_table(res: Synthesis) -> pd.DataFrame:
     """The Pareto table, one row per design, in table order.
 
     Columns: ``design_id``, the objectives ``curve_error_pct``, ``stress_ratio``,
-    ``size_mm3``, then ``mass_g``, ``feasible``, ``topology``; ``verified_error_pct`` and
-    ``in_spec_share`` when the search computed them, ``violations`` for infeasible
+    ``size_mm3`` (and ``fatigue_ratio`` under a duty), ``in_spec_share`` (every design's share of
+    parts in spec), then ``mass_g``, ``feasible``, ``topology``; ``verified_error_pct``
+    when the search computed it, ``violations`` for infeasible
     designs; then per element j (slot order) ``e<j>_kind``, ``e<j>_material``,
     ``e<j>_count``, ``e<j>_offset_mm`` and ``e<j>_<parameter>``.
     Where the study allows chains: also ``snap_mm``, and per element ``e<j>_branch`` (elements
@@ -133,6 +140,7 @@ def design_table(res: Synthesis) -> pd.DataFrame:
             "stress_ratio": res.objectives[i, 1],
             "size_mm3": res.objectives[i, 2],
             **({"fatigue_ratio": res.fatigue_ratio[i]} if res.fatigue_ratio is not None else {}),
+            **({"in_spec_share": res.in_spec_share[i]} if res.in_spec_share is not None else {}),
             "mass_g": res.mass_g[i],
             "feasible": bool(np.all(res.constraints[i] <= 0)),
             "topology": d.topology(),
@@ -141,8 +149,6 @@ def design_table(res: Synthesis) -> pd.DataFrame:
             row["snap_mm"] = res.snap_mm[i] if res.snap_mm is not None else np.nan
         if res.verified:
             row["verified_error_pct"] = res.verified.get(d.name, np.nan)
-        if res.in_spec:
-            row["in_spec_share"] = res.in_spec.get(d.name, np.nan)
         if not row["feasible"]:
             row["violations"] = res.binding(i)
         row.update(_part_columns(d, chains))
@@ -204,6 +210,8 @@ def synthesize(study: Study, *, seed: int | None = None, population: int | None 
     """
     s = study.search
     seed = s.seed if seed is None else int(seed)
+    if seed != s.seed:      # the study searched carries the run seed: the in-spec share's draws follow it
+        study, s = replace(study, search=replace(s, seed=seed)), replace(s, seed=seed)
     population = s.population if population is None else int(population)
     generations = s.generations if generations is None else int(generations)
     enc = Encoding(study)
@@ -219,22 +227,24 @@ def synthesize(study: Study, *, seed: int | None = None, population: int | None 
     slots = enc.decode(out.X)
     designs = tuple(replace(slots.design(i, name=f"D{i + 1:02d}"), duty=study.duty) for i in range(slots.n))
     fatigue = fatigue_population(slots, study.duty) if study.duty is not None else None
-    sc = out.scores
-    verified, in_spec, t_verify = {}, {}, 0.0
+    t0 = time.perf_counter()
+    share, sc = front_yield(study, slots, out.scores)
+    t_yield = time.perf_counter() - t0
+    verified, t_verify = {}, 0.0
     if not out.partial and s.verify_top > 0:
         t0 = time.perf_counter()
         verified = _verify_top(study, designs, sc, s.verify_top)
-        if study.target.has_band:
-            in_spec = _in_spec_top(study, designs, verified)
         t_verify = time.perf_counter() - t0
     return Synthesis(
         study=study, designs=designs, objectives=sc.F, constraints=sc.G, mass_g=sc.response.mass_g,
-        feasible=out.feasible_found, seed=seed, population=population, generations=generations,
+        feasible=out.feasible_found and bool(sc.feasible.any()), seed=seed, population=population, generations=generations,
         evaluations=out.evaluations, history=out.history, polish=out.polish,
         validity={k: np.asarray(v) for k, v in sc.response.validity.items()},
-        partial=out.partial, checkpoint=out.checkpoint, verified=verified, in_spec=in_spec, fatigue_ratio=fatigue,
+        partial=out.partial, checkpoint=out.checkpoint, verified=verified, in_spec_share=share,
+        yield_samples=SETTINGS.yield_samples, fatigue_ratio=fatigue,
         snap_mm=sc.response.snap_mm,
-        timings={**out.timings, **({"verification_s": t_verify} if verified else {})}, notices=notices,
+        timings={**out.timings, "in_spec_s": t_yield, **({"verification_s": t_verify} if verified else {})},
+        notices=notices,
     )
 
 
@@ -263,14 +273,30 @@ def _dropped_notice(dropped: Sequence[Design]) -> str:
             "material this study allows")
 
 
-def _in_spec_top(study: Study, designs, ids) -> dict[str, float]:
-    """Share of 1000 Monte Carlo parts (manufacturing tolerances) inside the target band."""
-    from springsynth.checks.tolerance import tolerance_analysis
+def front_yield(study: Study, slots, sc: Scores) -> tuple[np.ndarray, Scores]:
+    """The in-spec share of every returned design (``slots``, as decoded) from ``SETTINGS.yield_samples``
+    parts, and ``sc`` with the in-spec constraint and objective (where the study has them) taken from it.
 
-    by_id = {d.name: d for d in designs}
-    return {i: float(tolerance_analysis(by_id[i], study.target.x_mm, target=study.target, n_samples=1000,
-                                        seed=0).share_in_band) for i in ids}
+    The kinds are taken as they are now (a checkpoint may hold them as they were). The loop's
+    small sample are the first parts of these (the same common random numbers, slot by slot:
+    :func:`~springsynth.checks.in_spec.yield_draws`), so
+    a design's share here is the better estimate of the share it was chosen on; a design that
+    met ``limits.in_spec_share`` on the small sample and misses it on the full one is marked
+    infeasible, with the shortfall in ``violations``.
+    """
+    from springsynth.checks.in_spec import in_spec_share
 
+    slots = replace(slots, kinds=tuple(get_kind(k.name) for k in slots.kinds))
+    share = in_spec_share(study.target, slots, band_pct=study.limits.band_pct, n_samples=SETTINGS.yield_samples,
+                          seed=study.search.seed)
+    if not study.wants_yield:
+        return share, sc
+    G = sc.G.copy()
+    G[:, CONSTRAINTS.index("in_spec")] = yield_constraint(study, share, slots.n)
+    F = sc.F.copy()
+    if "in_spec_share" in study.search.objectives:
+        F[:, study.search.objectives.index("in_spec_share")] = 1.0 - share
+    return share, Scores(F, G, sc.response)
 
 
 
