@@ -232,8 +232,14 @@ def test_pareto_plot_is_pure_and_labels_the_knee_and_extremes(tmp_path, monkeypa
     assert all(ax.get_xlabel() and ax.get_ylabel() for ax in fig.axes)
     assert any(ax.get_yscale() == "log" or ax.get_xscale() == "log" for ax in fig.axes)  # size spans decades
     plt.close(fig)
-    # the in-spec share colours the feasible dots, on a labelled 0-100 % bar
-    fig = plot_pareto(ids, F, feas, stress_limit=0.8, in_spec=np.array([0.9, 0.5, 0.1, 1.0, 0.0]))
+    # the in-spec share colours the feasible dots, on a labelled 0-100 % bar, and names its best design
+    # (among the feasible ones; equal shares go to the lower error)
+    share = np.array([0.9, 0.5, 0.1, 1.0, 0.0])
+    assert representatives(ids, F, feas, share)["most in spec"] == 3
+    assert representatives(ids, F, feas, np.array([0.5, 0.9, 0.9, 0.2, 1.0]))["most in spec"] == 1
+    assert "most in spec" not in representatives(ids, F, feas, np.full(5, np.nan))
+    fig = plot_pareto(ids, F, feas, stress_limit=0.8, in_spec=share)
+    assert any(t.startswith("D04") and "most in spec" in t for ax in fig.axes for t in (x.get_text() for x in ax.texts))
     bar = fig.axes[-1]
     assert len(fig.axes) == 4 and "in spec" in bar.get_ylabel() and bar.get_ylim() == (0.0, 100.0)
     dots = fig.axes[0].collections[0]

@@ -46,7 +46,7 @@ REPORT = "report.html"
 BASE_COLUMNS = ("design_id", "curve_error_pct", "stress_ratio", "size_mm3", "fatigue_ratio", "in_spec_share",
                 "mass_g", "feasible", "topology", "violations")
 _PARAM_COLUMN = re.compile(r"^e\d+_")
-_ROLE_ORDER = ("lowest error", "knee", "smallest", "lowest stress")
+_ROLE_ORDER = ("lowest error", "knee", "smallest", "lowest stress", "most in spec")
 
 
 # ------------------------------------------------------------------------- loading
@@ -122,8 +122,8 @@ def _figures(run: ReportInput, workers: int):
         items.append((d, r, title, None))
     jobs = FG.design_jobs(items, st.target, limit)      # the largest job first
     if ids:
-        reps = representatives(ids, F, feas)
-        for role in _ROLE_ORDER:
+        reps = representatives(ids, F, feas, _in_spec(run.table))
+        for role in (r for r in _ROLE_ORDER if r in reps):
             roles.setdefault(ids[reps[role]], []).append(role)
         jobs.append(("pareto.png", FG.pareto_png, (ids, F, feas, limit, _in_spec(run.table)), {}))
         if st.duty is not None and "fatigue_ratio" in run.table:
@@ -533,7 +533,8 @@ def _html(run: ReportInput, figs: Mapping[str, bytes], per_design: Mapping[str, 
                                                      "(1 / the Goodman factor of safety) against curve error and "
                                                      "size; the shaded band meets limits.fatigue_ratio."),
         "curves.png": ("Representative curves", "The target and its tolerance band against the lowest-error, "
-                                                "knee, smallest and lowest-stress designs."),
+                                                "knee, smallest and lowest-stress designs, and the one with the "
+                                                "most parts in spec."),
         "convergence.png": ("Convergence", "Best feasible curve error, share of feasible designs and hypervolume "
                                            "(normalised) per generation."),
     }

@@ -80,7 +80,8 @@ def knee_index(F: np.ndarray) -> int:
     return int(np.argmin(np.linalg.norm(Z, axis=1)))
 
 
-def representatives(ids: Sequence[str], F: np.ndarray, feasible: np.ndarray | None = None) -> dict[str, int]:
+def representatives(ids: Sequence[str], F: np.ndarray, feasible: np.ndarray | None = None,
+                    in_spec: np.ndarray | None = None) -> dict[str, int]:
     """Row indices of the lowest-error, knee, smallest and lowest-stress designs.
 
     Chosen among the feasible designs when there are any (all designs otherwise);
@@ -92,14 +93,21 @@ def representatives(ids: Sequence[str], F: np.ndarray, feasible: np.ndarray | No
     F : ndarray, shape (n, 3)
         curve_error_pct, stress_ratio, size_mm3.
     feasible : ndarray of bool, shape (n,), optional
+    in_spec : ndarray, shape (n,), optional
+        Share of parts in spec: adds the role ``most in spec`` (the highest share, ties to the
+        lowest error) when any design in the pool has one.
     """
     F = np.asarray(F, float)
     pool = np.arange(len(ids))
     if feasible is not None and np.any(feasible):
         pool = np.flatnonzero(feasible)
     G = np.where(np.isfinite(F[pool]), F[pool], np.nanmax(np.where(np.isfinite(F), F, np.nan), axis=0) * 10 + 1)
-    return {"lowest error": int(pool[np.argmin(G[:, 0])]), "knee": int(pool[knee_index(G)]),
+    reps = {"lowest error": int(pool[np.argmin(G[:, 0])]), "knee": int(pool[knee_index(G)]),
             "smallest": int(pool[np.argmin(G[:, 2])]), "lowest stress": int(pool[np.argmin(G[:, 1])])}
+    share = None if in_spec is None else np.asarray(in_spec, float)[pool]
+    if share is not None and np.isfinite(share).any():
+        reps["most in spec"] = int(pool[np.lexsort((G[:, 0], -np.nan_to_num(share, nan=-1.0)))[0]])
+    return reps
 
 
 def roles_by_row(reps: Mapping[str, int]) -> dict[int, list[str]]:
@@ -208,7 +216,7 @@ def plot_pareto(ids: Sequence[str], F: np.ndarray, feasible: np.ndarray, *, stre
     feasible = np.asarray(feasible, bool)
     pairs = [(0, 1), (0, 2), (2, 1)]
     fig, axes = plt.subplots(1, 3, figsize=(13.0, 4.3))
-    reps = representatives(ids, F, feasible) if len(ids) else {}
+    reps = representatives(ids, F, feasible, in_spec) if len(ids) else {}
     roles = roles_by_row(reps)
     log = [False, _wants_log(F[:, 1], 2.0), _wants_log(F[:, 2])]
     handles, dots = {}, None
