@@ -61,8 +61,9 @@ def test_run_folder_is_complete_deterministic_and_reproducible(known_study, tmp_
     assert meta["seed"] == 3 and meta["budget"]["generations"] == 12 and len(meta["history"]) == 12
     assert {"best_error_pct", "feasible_share", "hypervolume"} <= set(meta["history"][-1])
     table = pd.read_csv(out1 / "pareto.csv")
-    assert list(table.columns[:7]) == ["design_id", "curve_error_pct", "stress_ratio", "size_mm3", "mass_g",
-                                       "feasible", "topology"]
+    assert list(table.columns[:8]) == ["design_id", "curve_error_pct", "stress_ratio", "size_mm3", "in_spec_share",
+                                       "mass_g", "feasible", "topology"]
+    assert table["in_spec_share"].between(0, 1).all()
     curves = pd.read_csv(out1 / "curves.csv")
     # every written design re-evaluates to the curve in curves.csv (same code path, full-precision TOML)
     for did in table.design_id:
