@@ -7,7 +7,8 @@ size, as the report picks it) and that design's in-spec share, and the highest s
 front; the shares are those every run reports (``SETTINGS.yield_samples`` parts, common
 random numbers of the seed). Verification is off (it changes neither number).
 
-Run:  nice python tests/benchmarks/bench_yield_effect.py [--seed 1] [--out results.jsonl] [STUDY ...]
+Run:  nice python tests/benchmarks/bench_yield_effect.py [--seed 1] [--out results.jsonl] [--set KEY=VALUE ...]
+      [STUDY ...]    (``--set`` overrides apply to both searches, e.g. ``--set 'search.stock="standard"'``)
 """
 
 from __future__ import annotations
@@ -26,9 +27,9 @@ from springsynth.search.synthesis import synthesize
 ROOT = Path(__file__).resolve().parents[2]
 
 
-def measure(path: Path, seed: int, with_yield: bool) -> dict:
-    base = load_study(path, overrides=["search.verify_top=0"])
-    ov = ["search.verify_top=0"]
+def measure(path: Path, seed: int, with_yield: bool, extra: list[str] = ()) -> dict:
+    base = load_study(path, overrides=["search.verify_top=0", *extra])
+    ov = ["search.verify_top=0", *extra]
     if with_yield:
         ov.append(f"search.objectives={json.dumps(list(base.search.objectives) + ['in_spec_share'])}")
     st = load_study(path, overrides=ov)
@@ -41,7 +42,7 @@ def measure(path: Path, seed: int, with_yield: bool) -> dict:
     share = tab["in_spec_share"].to_numpy(float)
     knee = representatives(list(tab["design_id"]), F, feas)["knee"]
     best = int(np.argmin(np.where(feas, F[:, 0], np.inf))) if feas.any() else -1
-    return {"study": path.stem, "yield_objective": with_yield, "seed": seed, "feasible": bool(res.feasible),
+    return {"study": path.stem, "yield_objective": with_yield, "set": list(extra), "seed": seed, "feasible": bool(res.feasible),
             "designs": len(tab), "best_error_pct": float(F[best, 0]) if best >= 0 else None,
             "best_share": float(share[best]) if best >= 0 else None,
             "knee": tab["design_id"][knee], "knee_error_pct": float(F[knee, 0]), "knee_share": float(share[knee]),
@@ -54,12 +55,13 @@ def main() -> None:
     ap.add_argument("studies", nargs="*")
     ap.add_argument("--seed", type=int, default=1)
     ap.add_argument("--out", default=None)
+    ap.add_argument("--set", action="append", default=[], dest="extra")
     a = ap.parse_args()
     paths = [Path(p) for p in a.studies] or sorted(p for p in (ROOT / "studies").glob("*.toml")
                                                  if not p.name.endswith(".design.toml"))
     for p in paths:
         for with_yield in (False, True):
-            row = measure(p, a.seed, with_yield)
+            row = measure(p, a.seed, with_yield, a.extra)
             line = json.dumps(row)
             print(line, flush=True)
             if a.out:
