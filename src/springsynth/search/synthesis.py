@@ -237,7 +237,8 @@ def synthesize(study: Study, *, seed: int | None = None, population: int | None 
         t_verify = time.perf_counter() - t0
     return Synthesis(
         study=study, designs=designs, objectives=sc.F, constraints=sc.G, mass_g=sc.response.mass_g,
-        feasible=out.feasible_found and bool(sc.feasible.any()), seed=seed, population=population, generations=generations,
+        feasible=out.feasible_found and bool(sc.feasible.any()), seed=seed, population=population,
+        generations=generations,
         evaluations=out.evaluations, history=out.history, polish=out.polish,
         validity={k: np.asarray(v) for k, v in sc.response.validity.items()},
         partial=out.partial, checkpoint=out.checkpoint, verified=verified, in_spec_share=share,
@@ -277,12 +278,11 @@ def front_yield(study: Study, slots, sc: Scores) -> tuple[np.ndarray, Scores]:
     """The in-spec share of every returned design (``slots``, as decoded) from ``SETTINGS.yield_samples``
     parts, and ``sc`` with the in-spec constraint and objective (where the study has them) taken from it.
 
-    The kinds are taken as they are now (a checkpoint may hold them as they were). The loop's
-    small sample are the first parts of these (the same common random numbers, slot by slot:
-    :func:`~springsynth.checks.in_spec.yield_draws`), so
-    a design's share here is the better estimate of the share it was chosen on; a design that
-    met ``limits.in_spec_share`` on the small sample and misses it on the full one is marked
-    infeasible, with the shortfall in ``violations``.
+    The kinds are taken as they are now (a checkpoint may hold them as they were). A finished
+    search chose its front on these parts already (the loop's small sample are their first
+    parts, slot by slot: :func:`~springsynth.checks.in_spec.yield_draws`); a stopped one chose
+    on the small sample, and a design that met ``limits.in_spec_share`` there and misses it
+    here is marked infeasible, with the shortfall in ``violations``.
     """
     from springsynth.checks.in_spec import in_spec_share
 
