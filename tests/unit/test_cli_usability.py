@@ -117,7 +117,7 @@ def test_pareto_table_fits_80_columns_with_readable_percentages(narrow, linear_s
     text = capsys.readouterr().out
     assert _fits("\n".join(ln for ln in text.splitlines() if str(tmp_path) not in ln))   # a long path may not
     rows = [ln for ln in text.splitlines() if "D0" in ln]
-    assert [ln.split()[1] for ln in rows] == ["D01", "D02"] and "…" not in text
+    assert [ln.split()[0] for ln in rows] == ["D01", "D02"] and "…" not in text
     assert "e-14" not in text and "< 0.01" in text and "12.35" in text
     assert "98\u2009765" in text        # sizes as the report writes them (thin-space thousands)
     assert "in spec" in text and "93.5" in text

@@ -86,11 +86,12 @@ def materials_table(materials: Iterable[Material], kinds: Iterable[ElementKind])
 def pareto_table(frame, title: str, rows: int = 12) -> Table:
     """The first ``rows`` designs of a Pareto table (``Synthesis.to_frame()``): id, error, stress
     ratio, size, share of parts in spec, mass and the topology, which alone wraps."""
-    t = Table(title=escape(title), title_justify="left")
+    # headers on two lines and no vertical rules: the topology keeps room to wrap at words in 80 columns
+    t = Table(title=escape(title), title_justify="left", box=box.SIMPLE_HEAD)
     fat = "fatigue_ratio" in frame        # only under a duty
     spec = "in_spec_share" in frame
-    for c in (("id", "error %", "stress ratio", "size mm³") + ("fatigue ratio",) * fat + ("in spec %",) * spec
-              + ("mass g", "topology")):
+    for c in (("id", "error\n%", "stress\nratio", "size\nmm³") + ("fatigue\nratio",) * fat
+              + ("in spec\n%",) * spec + ("mass\ng", "topology")):
         t.add_column(c, justify="left" if c in ("id", "topology") else "right", overflow="fold",
                      no_wrap=c != "topology")
     for _, r in frame.head(rows).iterrows():
