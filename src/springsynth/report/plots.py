@@ -14,6 +14,7 @@ import matplotlib
 matplotlib.use("Agg")
 import matplotlib.pyplot as plt  # noqa: E402
 import numpy as np  # noqa: E402
+from matplotlib.lines import Line2D  # noqa: E402
 from matplotlib.transforms import Bbox  # noqa: E402
 
 from springsynth.checks.tolerance import ToleranceResult
@@ -226,7 +227,11 @@ def plot_pareto(ids: Sequence[str], F: np.ndarray, feasible: np.ndarray, *, stre
         bad = ~feasible & np.isfinite(F[:, a]) & np.isfinite(F[:, b])
         if ok.any():
             dots = _feasible_dots(ax, F[ok, a], F[ok, b], None if share is None else share[ok])
-            handles["feasible design"] = dots
+            if share is None:
+                handles["feasible design"] = dots
+            else:       # the dots' colours say the share: a neutral dot in the legend, not the first dot's colour
+                handles["feasible design (colour: share in spec)"] = Line2D(
+                    [], [], ls="", marker="o", markersize=6, markerfacecolor="#9a9a9a", markeredgecolor="white")
         if bad.any():
             handles["infeasible design"] = ax.scatter(F[bad, a], F[bad, b], s=26, marker="x", color=INFEASIBLE,
                                                       lw=1.2, zorder=3)
