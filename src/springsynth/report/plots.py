@@ -242,19 +242,7 @@ def plot_pareto(ids: Sequence[str], F: np.ndarray, feasible: np.ndarray, *, stre
         if stress_limit is not None and b == 1:
             handles[f"stress-ratio limit {stress_limit:g}"] = ax.axhline(stress_limit, color=LIMIT, ls="--", lw=1.0,
                                                                          zorder=2)
-        for k, axis, setter in ((a, ax.xaxis, ax.set_xscale), (b, ax.yaxis, ax.set_yscale)):
-            if log[k]:
-                setter("log")
-                _plain_log_axis(axis)
-            elif k == 2:
-                axis.set_major_formatter(_thousands)
-        ax.set_xlabel(_OBJ[a][1] + (" (log scale)" if log[a] else ""))
-        ax.set_ylabel(_OBJ[b][1] + (" (log scale)" if log[b] else ""))
-        ax.margins(0.08)
-        if b == 1 and stress_limit is not None and not log[b]:
-            lo, hi = ax.get_ylim()
-            ax.set_ylim(min(lo, 0.0), max(hi, stress_limit * 1.08))
-        ax.set_title(f"{_OBJ[b][1].split(' [')[0]} vs {_OBJ[a][1].split(' [')[0]}", fontsize=9.5)
+        _pareto_axes(ax, a, b, log, stress_limit)
     n_bad = int((~np.all(np.isfinite(F), axis=1)).sum())
     sub = "all three objectives: lower is better" + ("; colour: share of parts in spec" if share is not None else "")
     if n_bad:
@@ -272,6 +260,23 @@ def plot_pareto(ids: Sequence[str], F: np.ndarray, feasible: np.ndarray, *, stre
         fin = np.all(np.isfinite(F[:, [a, b]]), axis=1)
         _place_labels(ax, items, F[fin][:, [a, b]], hlines=[stress_limit] if b == 1 else [])
     return fig
+
+
+def _pareto_axes(ax, a: int, b: int, log: Sequence[bool], stress_limit: float | None) -> None:
+    """Scales, labels, limits and title of the panel of objective ``b`` against objective ``a``."""
+    for k, axis, setter in ((a, ax.xaxis, ax.set_xscale), (b, ax.yaxis, ax.set_yscale)):
+        if log[k]:
+            setter("log")
+            _plain_log_axis(axis)
+        elif k == 2:
+            axis.set_major_formatter(_thousands)
+    ax.set_xlabel(_OBJ[a][1] + (" (log scale)" if log[a] else ""))
+    ax.set_ylabel(_OBJ[b][1] + (" (log scale)" if log[b] else ""))
+    ax.margins(0.08)
+    if b == 1 and stress_limit is not None and not log[b]:
+        lo, hi = ax.get_ylim()
+        ax.set_ylim(min(lo, 0.0), max(hi, stress_limit * 1.08))
+    ax.set_title(f"{_OBJ[b][1].split(' [')[0]} vs {_OBJ[a][1].split(' [')[0]}", fontsize=9.5)
 
 
 def _share_bar(fig, dots) -> None:
