@@ -15,8 +15,11 @@ not finished; finished run folders stay, and ``--resume`` runs the rest.
 
 from __future__ import annotations
 
+import contextlib
 import logging
 import os
+import signal
+import threading
 import time
 import uuid
 from dataclasses import dataclass
@@ -90,8 +93,9 @@ def execute(runs: Sequence[RunSpec], out_dir: Path, *, scheduler: str | None = N
     total = len(runs) + already_done if total is None else total
     cluster = None
     if scheduler is None:
-        cluster = LocalCluster(n_workers=local_workers(len(runs), workers), threads_per_worker=1, processes=True,
-                               dashboard_address=None, silence_logs=logging.CRITICAL)
+        with _workers_ignore_ctrl_c():
+            cluster = LocalCluster(n_workers=local_workers(len(runs), workers), threads_per_worker=1, processes=True,
+                                   dashboard_address=None, silence_logs=logging.CRITICAL)
         client = Client(cluster, set_as_default=False)
     else:
         client = _connect(scheduler)
@@ -104,6 +108,23 @@ def execute(runs: Sequence[RunSpec], out_dir: Path, *, scheduler: str | None = N
         client.close()
         if cluster is not None:
             cluster.close()
+
+
+@contextlib.contextmanager
+def _workers_ignore_ctrl_c():
+    """SIGINT ignored while the local workers start, so they inherit that (a process started with SIGINT
+    ignored keeps it so: Python installs its KeyboardInterrupt handler only over the default action).
+    Ctrl-C in a terminal reaches the whole process group; only this process acts on it, cancelling the
+    tasks and closing the cluster, and no worker prints a traceback. Outside the main thread (where
+    handlers cannot be set) nothing changes."""
+    if threading.current_thread() is not threading.main_thread():
+        yield
+        return
+    old = signal.signal(signal.SIGINT, signal.SIG_IGN)
+    try:
+        yield
+    finally:
+        signal.signal(signal.SIGINT, old)
 
 
 def _setup_plugin(fn: Callable[[], object]):
