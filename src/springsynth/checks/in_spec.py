@@ -4,7 +4,7 @@ A part is *in spec* when its force lies inside the acceptance band at every targ
 the target's own band, or where it has none +- ``limits.band_pct`` % of the target force
 (:meth:`springsynth.model.target.Target.spec_band`, with its floor near zero force). The
 parts are drawn from the process-tolerance model of :mod:`springsynth.checks.tolerance`
-(every dimension, offset and modulus; +-T read as +-3 sigma of a normal truncated there).
+(every dimension, offset and modulus; +-T read as +-3 sigma of a normal, draws clipped there).
 
 Common random numbers: every design of a population is perturbed by the *same*
 standard-normal draws (:func:`yield_draws`, seeded from the run seed), so that two designs
@@ -39,7 +39,7 @@ DRAW_COLUMNS = 16
 
 @lru_cache(maxsize=8)
 def yield_draws(n_samples: int, n_slots: int, n_params: int, seed: int) -> tuple[np.ndarray, np.ndarray, np.ndarray]:
-    """The common random numbers of a run, in sigmas, clipped at +-3 (the tolerance model's truncation).
+    """The common random numbers of a run, in sigmas, clipped at +-3 (as the tolerance model clips).
 
     Parameters
     ----------

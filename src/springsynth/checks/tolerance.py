@@ -3,8 +3,9 @@
 Every dimension of every element, each element's position along the stroke (its
 offset, hence its gap or preload) and each element's modulus are perturbed by the
 tolerance of the process that makes it. A tolerance ``+-T`` is read as ``+-3 sigma``
-of a normal distribution truncated at ``+-3 sigma`` (process capability Cp = 1, parts
-outside the limits are rejected at inspection). Copies of one element vary together
+of a normal distribution (process capability Cp = 1) whose draws beyond ``+-3 sigma``
+(0.27 % of them) are set on the limit: clipped, a slight over-statement of the spread
+next to parts outside the limits being rejected at inspection. Copies of one element vary together
 (one batch; this over-states the spread a little when copies are made separately).
 
 Processes and tolerance classes
