@@ -182,9 +182,9 @@ def outline_svg(prof: Profile, *, max_width_px: int = 700, max_height_px: int = 
     The same contours as :func:`outline_document` draws (:func:`contours`), written as SVG paths
     (bulges as exact arcs), so a page can show the outline without a drawing library.
     """
-    paths = [_svg_path(c) for c in contours(prof)]
-    edges = _mount_edges(prof)
-    pts = np.array([v[:2] for c in contours(prof) for v in c] + [p for e in edges for p in e], float)
+    cs, edges = contours(prof), _mount_edges(prof)
+    paths = [_svg_path(c) for c in cs]
+    pts = np.array([v[:2] for c in cs for v in c] + [p for e in edges for p in e], float)
     x0, y0 = pts.min(axis=0)
     x1, y1 = pts.max(axis=0)
     pad = 0.03 * max(x1 - x0, y1 - y0)          # arcs bulge inwards (notches): the points bound the part
