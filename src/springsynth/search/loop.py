@@ -242,7 +242,7 @@ def _inject_polished(study, enc, problem, algo) -> int:
     X = algo.pop.get("X")
     sc = score(study, enc.decode(X))
     starts = best_per_topology(enc, X, sc, per_topology=1)
-    X2, info = polish_designs(study, enc, X[starts], take(sc, starts), max_nfev=SETTINGS.inject_max_nfev)
+    X2, info = polish_designs(study, enc, X[starts], take(sc, starts), max_steps=SETTINGS.inject_steps)
     if len(X2):
         new = Population.new("X", X2)
         Evaluator().eval(problem, new)

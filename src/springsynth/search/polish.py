@@ -1,55 +1,60 @@
-"""The local polish: bounded least squares on the continuous genes of designs (scipy), all designs
-evaluated together.
+"""The local polish: bounded least squares on the continuous genes of designs, all designs at once.
 
-Each starting design is refined by its own ``scipy.optimize.least_squares`` (trust region
-reflective), exactly as if it were alone. The model, though, costs far more per call than
-per design, so the solvers run side by side in lockstep: each runs in a thread of its own
-that hands every point it needs (a trial point, or a point with its finite-difference
-perturbations) to a shared :class:`_Lockstep` and waits; when every unfinished solver has
-asked, the points of all of them are evaluated in one population call, in design order,
-and each solver goes on with its own rows. A polish of some thirty designs then makes a
-hundred calls instead of a few thousand. The solvers take turns, in design order: exactly
-one thread runs at a time (the others wait for their turn), so nothing is computed
-concurrently and the results are those of solving the designs one after another, the same
-on every run.
+Every starting design is a small bounded least-squares problem of its own (a few to some twenty
+free genes, one residual per curve point and per constraint near its bound). They are solved
+together by :func:`solve_batch`, a projected Levenberg–Marquardt method vectorised over the
+problems: at each step every unfinished problem takes one damped Gauss–Newton step, and the
+trial points of all of them, each with the forward-difference perturbations that give its
+Jacobian, are evaluated in one population call. The model costs far more per call than per
+design, so a polish of some forty designs makes a few dozen calls.
+
+Method: Levenberg 1944 and Marquardt 1963 (the damped normal equations
+``(JᵀJ + λ diag(JᵀJ)) δ = −Jᵀr``, Marquardt's scaling), with the damping updated from the
+ratio of actual to predicted reduction as in Nielsen 1999 (Madsen, Nielsen & Tingleff, "Methods
+for non-linear least squares problems", 2004, eq. 3.16); bounds by projection, genes at a bound
+whose gradient points outward held fixed for the step (an active set).
 """
 
 from __future__ import annotations
 
-import threading
+from collections.abc import Callable
 
 import numpy as np
-from scipy.optimize import least_squares
 
 from springsynth.assembly.evaluate import evaluate_population
 from springsynth.checks.fatigue import fatigue_population
 from springsynth.model.study import Study
 from springsynth.search.encoding import Encoding
-from springsynth.search.scoring import Scores, constraints, score, study_constraints
+from springsynth.search.scoring import CONSTRAINTS, Scores, constraints, score, study_constraints
 from springsynth.search.settings import SETTINGS
 
-__all__ = ["polish_designs"]
+__all__ = ["polish_designs", "solve_batch"]
 
 #: forward-difference step on the genes (unit genes span [0, 1], the offset gene a few strokes)
 _H = 1e-6
+#: a problem stops when a step lowers its cost by less than this share (scipy's default ``ftol``) ...
+_FTOL = 1e-8
+#: ... or moves its point by less than this share of its size (scipy's default ``xtol``) ...
+_XTOL = 1e-8
+#: ... or its damping grows past this (no step along the gradient lowers the cost any more)
+_LAM_MAX = 1e12
+#: the damping of the first step
+_LAM0 = 1e-2
 
 
-def polish_designs(study: Study, enc: Encoding, X: np.ndarray, sc: Scores, *, max_nfev: int = SETTINGS.polish_max_nfev):
+def polish_designs(study: Study, enc: Encoding, X: np.ndarray, sc: Scores, *, max_steps: int = SETTINGS.polish_steps):
     """Refine offsets and continuous dimensions of each design by bounded least squares.
 
     Residuals are the weighted curve misfit (its norm is ``curve_error_pct``) plus
     100 x each constraint value that comes within ``SETTINGS.polish_margin`` of its bound, so the
-    optimum stays just inside the feasible set;
-    a refinement is kept only when it is feasible and lowers the error. The in-spec share, a
-    step function of the design, is left out of both: the refinements join the population
-    (or the final front) and are scored there with it, beside the designs they came from. Kinds,
-    materials, counts, whole-number and categorical parameters stay fixed. The
-    Jacobian is taken by forward differences. Every design's solver runs in lockstep
-    with the others (:class:`_Lockstep`): all the points they ask for at one step are
-    evaluated in one population call. Under ``stock = "standard"`` the stock sizes stay fixed
-    and the other genes are polished unrounded; the result is rounded to its resolution (the
-    decode does it) and evaluated again, and kept only if that rounded design is still
-    feasible and better.
+    optimum stays just inside the feasible set; a refinement is kept only when it is feasible and
+    lowers the error. The in-spec share, a step function of the design, is left out of both: the
+    refinements join the population (or the final front) and are scored there with it, beside the
+    designs they came from. Kinds, materials, counts, whole-number and categorical parameters stay
+    fixed. All designs are solved together by :func:`solve_batch`, at most ``max_steps`` steps each.
+    Under ``stock = "standard"`` the stock sizes stay fixed and the other genes are polished
+    unrounded; the result is rounded to its resolution (the decode does it) and evaluated again, and
+    kept only if that rounded design is still feasible and better.
 
     Returns
     -------
@@ -59,42 +64,33 @@ def polish_designs(study: Study, enc: Encoding, X: np.ndarray, sc: Scores, *, ma
         starts, improved, made_feasible, evaluations (designs evaluated), calls (population
         calls made) and the median error reduction, best error before and after.
     """
-    t = study.target
-    w = np.sqrt(t.weight / t.weight.sum()) * 100.0 / t.scale_N
-    cols = study_constraints(study, smooth=True)   # those that apply and have a gradient (not the in-spec share)
-
-    def residuals(blocks: list[np.ndarray]) -> list[np.ndarray]:
-        """Residuals of each block of genomes, shape (rows, m + constraints), from one model call."""
-        edges = np.cumsum([len(b) for b in blocks])[:-1]
-        slots = enc.decode(np.vstack(blocks), snap=False)   # unrounded: rounded once, below, and evaluated again
-        r = evaluate_population(slots, t.x_mm, x_max_mm=t.stroke_mm)
-        with np.errstate(all="ignore"):
-            # the curve error block by block: the last bits of a matrix product depend on its number
-            # of rows, and each solver must see exactly what it would see alone
-            err = np.concatenate([t.curve_error_pct(f) for f in np.split(r.force_N, edges)])
-            fatigue = fatigue_population(slots, study.duty) if study.duty is not None else None
-        G = constraints(study, r, err, fatigue)[:, cols]
-        R = np.hstack([(r.force_N - t.force_N) * w, 100.0 * np.maximum(G + SETTINGS.polish_margin, 0.0)])
-        return np.split(R, edges)
-
     X = np.asarray(X, dtype=float)
-    jobs = [(i, f) for i, f in ((i, _free_genes(enc, x)) for i, x in enumerate(X)) if f.size]
-    lock = _Lockstep(residuals, [i for i, _ in jobs])
-    found: dict[int, np.ndarray] = {}
-    threads = [threading.Thread(target=_solve, args=(lock, i, X[i], free, enc, max_nfev, found), daemon=True)
-               for i, free in jobs]
-    for th in threads:
-        th.start()
-    lock.begin()
-    for th in threads:
-        th.join()
-    lock.raise_failure()
+    cols = study_constraints(study, smooth=True)   # those that apply and have a gradient (not the in-spec share)
+    free = [_free_genes(enc, x) for x in X]
+    jobs = np.array([i for i, f in enumerate(free) if f.size], dtype=np.intp)
+    n = max((free[i].size for i in jobs), default=0)
+    genes = np.full((len(jobs), n), X.shape[1], dtype=np.intp)      # padding points at a spare column
+    for row, i in enumerate(jobs):
+        genes[row, :free[i].size] = free[i]
+    mask = genes < X.shape[1]
+    xl, xu = np.r_[enc.xl, 0.0], np.r_[enc.xu, 0.0]
+    Xj = np.hstack([X[jobs], np.zeros((len(jobs), 1))])
+    z0 = np.take_along_axis(Xj, genes, axis=1)
+
+    def genomes(Z: np.ndarray, owner: np.ndarray) -> np.ndarray:
+        full = Xj[owner].copy()
+        np.put_along_axis(full, genes[owner], Z, axis=1)
+        return full[:, :-1]
+
+    rules = sorted(evaluate_population(enc.decode(X[jobs], snap=False), study.target.x_mm[:1]).validity) if len(jobs) else []
+    fit = solve_batch(_residual_function(study, enc, cols, genomes, rules), z0, xl[genes], xu[genes], mask,
+                      max_steps=max_steps)
     kept, gains, repaired = [], [], 0
-    rows = sorted(found)
-    if rows:
-        cand = np.array([found[i] for i in rows])
+    ok = fit.solved
+    if ok.any():
+        cand = genomes(fit.z[ok], np.flatnonzero(ok))
         s_new = score(study, enc.decode(cand), with_yield=False)
-        for c, i in enumerate(rows):
+        for c, i in enumerate(jobs[ok]):
             was_ok = bool(np.all(sc.G[i, cols] <= 0))
             if np.all(s_new.G[c, cols] <= 0) and (not was_ok or s_new.F[c, 0] < sc.F[i, 0] * (1 - 1e-6)):
                 kept.append(cand[c])
@@ -102,139 +98,175 @@ def polish_designs(study: Study, enc: Encoding, X: np.ndarray, sc: Scores, *, ma
                     gains.append((sc.F[i, 0], s_new.F[c, 0]))
                 else:
                     repaired += 1
-    return _summary(study, enc, X, sc, kept, gains, repaired, lock, cols)
+    return _summary(study, enc, X, sc, kept, gains, repaired, fit, cols)
 
 
-def _solve(lock: "_Lockstep", i: int, x0: np.ndarray, free: np.ndarray, enc: Encoding, max_nfev: int,
-           found: dict) -> None:
-    """One design's least squares (a thread's work); its result lands in ``found[i]``."""
+def _residual_function(study: Study, enc: Encoding, cols: np.ndarray, genomes: Callable, rules: list[str]):
+    """The residuals of points of the polish's problems, ``(Z, owner) -> R`` of shape (rows, m + constraints).
 
-    def full(z):
-        Z = np.repeat(x0[None, :], z.shape[0], axis=0)
-        Z[:, free] = z
-        return Z
+    The validity constraint, the worst margin over the rules of the trade, is split into one hinge per
+    rule (``rules``; a rule not among them joins the last): a maximum of several margins has a kink
+    where the worst one changes, and a Gauss–Newton step stalls on such kinks, while a sum of
+    squared hinges is smooth to first order."""
+    t = study.target
+    w = np.sqrt(t.weight / t.weight.sum()) * 100.0 / t.scale_N
+    valid = CONSTRAINTS.index("validity")
+    others = cols[cols != valid]
 
-    def fun(z):
-        return lock.evaluate(i, full(z[None, :]))[0]
+    def residuals(Z: np.ndarray, owner: np.ndarray) -> np.ndarray:
+        slots = enc.decode(genomes(Z, owner), snap=False)   # unrounded: rounded once, after, and evaluated again
+        r = evaluate_population(slots, t.x_mm, x_max_mm=t.stroke_mm)
+        with np.errstate(all="ignore"):
+            err = t.curve_error_pct(r.force_N)
+            fatigue = fatigue_population(slots, study.duty) if study.duty is not None else None
+        G = constraints(study, r, err, fatigue)[:, others]
+        V = _rule_margins(r.validity, rules, len(Z))
+        return np.hstack([(r.force_N - t.force_N) * w, 100.0 * np.maximum(np.hstack([G, V]) + SETTINGS.polish_margin, 0.0)])
 
-    def jac(z):
-        Z = np.vstack([z, z + _H * np.eye(z.size)])
-        R = lock.evaluate(i, full(Z))
-        return ((R[1:] - R[0]) / _H).T
-
-    lb, ub = enc.xl[free], enc.xu[free]
-    try:
-        lock.wait_turn(i)
-        res = least_squares(fun, np.clip(x0[free], lb, ub), jac=jac, bounds=(lb, ub), method="trf",
-                            max_nfev=max_nfev, x_scale="jac")
-        found[i] = full(res.x[None, :])[0]
-    except (ValueError, np.linalg.LinAlgError, _Abandoned):
-        pass
-    finally:
-        lock.leave(i)
+    return residuals
 
 
-class _Abandoned(Exception):
-    """Raised in the waiting solvers when the shared evaluation failed (the failure itself is re-raised
-    in the calling thread by :meth:`_Lockstep.raise_failure`)."""
+def _rule_margins(validity: dict, rules: list[str], n: int) -> np.ndarray:
+    """The margins of the named rules, shape (n, len(rules)); rules not named fold into the last column."""
+    V = np.full((n, max(len(rules), 1)), -np.inf)
+    for name, v in validity.items():
+        j = rules.index(name) if name in rules else V.shape[1] - 1
+        V[:, j] = np.maximum(V[:, j], v)
+    return V
 
 
-class _Lockstep:
-    """Solvers ``ids`` taking turns, in this order, and one population call for a round of their requests.
+class BatchFit:
+    """What :func:`solve_batch` found: points ``z`` (k, n), costs ``0.5 |r|²`` (k,), ``solved`` (k,)
+    (False where the start itself could not be evaluated), ``steps`` taken (k,), ``calls`` made and
+    ``evaluations`` (points evaluated)."""
 
-    Exactly one solver runs at a time: it runs until it asks for residuals
-    (``evaluate(i, rows)``) or ends (``leave(i)``), then hands the turn to the next solver
-    of the round; the last to ask evaluates every block of the round in one call (in solver
-    order, so the call is the same on every run) and hands the turn back to the first. A
-    thread waits for its first turn with ``wait_turn``; ``begin()`` gives the first one.
+    def __init__(self, z, cost, solved, steps, calls, evaluations):
+        self.z, self.cost, self.solved, self.steps = z, cost, solved, steps
+        self.calls, self.evaluations = calls, evaluations
+
+
+def solve_batch(residuals: Callable[[np.ndarray, np.ndarray], np.ndarray], z0: np.ndarray, lb: np.ndarray,
+                ub: np.ndarray, mask: np.ndarray, *, max_steps: int, h: float = _H) -> BatchFit:
+    """Minimise ``0.5 |r_i(z_i)|²`` subject to ``lb_i <= z_i <= ub_i`` for k problems at once.
+
+    Parameters
+    ----------
+    residuals : callable
+        ``residuals(Z, owner)``: the residual vectors (rows, m) of the points ``Z`` (rows, n), row j
+        a point of problem ``owner[j]``; all rows of one step come in one call. Rows that cannot
+        be evaluated are returned as NaN (the trial is then refused).
+    z0, lb, ub : ndarray, shape (k, n)
+        Starting points and bounds. Entries outside ``mask`` are padding: never moved, never
+        evaluated apart.
+    mask : ndarray of bool, shape (k, n)
+        The variables of each problem (problems may have different numbers of variables).
+    max_steps : int
+        Steps per problem at most (one call each; the Jacobian of an accepted point comes with it).
+    h : float
+        Forward-difference step (taken backwards at an upper bound).
     """
+    k, n = z0.shape
+    z = np.clip(z0, lb, ub)
+    lam, nu = np.full(k, _LAM0), np.full(k, 2.0)
+    steps = np.zeros(k, dtype=np.intp)
+    tally = {"calls": 0, "evaluations": 0}
+    r, J = _with_jacobian(residuals, z, np.arange(k), lb, ub, mask, h, tally)
+    cost = 0.5 * np.einsum("km,km->k", r, r)
+    solved = np.isfinite(cost)
+    active = solved.copy()
+    for _ in range(max_steps):
+        a = np.flatnonzero(active)
+        if not a.size:
+            break
+        delta, pred = _damped_step(J[a], r[a], z[a], lb[a], ub[a], mask[a], lam[a])
+        zt = np.where(mask[a], np.clip(z[a] + delta, lb[a], ub[a]), z[a])
+        rt, Jt = _with_jacobian(residuals, zt, a, lb, ub, mask, h, tally)
+        with np.errstate(invalid="ignore", over="ignore"):
+            ct = 0.5 * np.einsum("km,km->k", rt, rt)
+            ct = np.where(np.isfinite(ct), ct, np.inf)
+            gain = cost[a] - ct
+            rho = np.where(pred > 0, gain / np.where(pred > 0, pred, 1.0), 0.0)
+        acc = gain > 0
+        steps[a] += 1
+        moved = np.linalg.norm(zt - z[a], axis=1)
+        small = (gain <= _FTOL * cost[a]) | (moved <= _XTOL * (_XTOL + np.linalg.norm(z[a], axis=1)))
+        lam[a] = np.where(acc, lam[a] * np.maximum(1 / 3, 1 - (2 * np.minimum(rho, 1.0) - 1) ** 3), lam[a] * nu[a])
+        nu[a] = np.where(acc, 2.0, 2.0 * nu[a])
+        take = a[acc]
+        z[take], r[take], J[take], cost[take] = zt[acc], rt[acc], Jt[acc], ct[acc]
+        active[a[(acc & small) | (cost[a] == 0.0) | (lam[a] > _LAM_MAX)]] = False
+    return BatchFit(z, cost, solved, steps, tally["calls"], tally["evaluations"])
 
-    def __init__(self, residuals, ids: list[int]):
-        self._residuals = residuals
-        self._order = list(ids)                       # solvers still running, in turn order
-        self._turn = {i: threading.Event() for i in ids}
-        self._asked: dict[int, np.ndarray] = {}
-        self._answers: dict[int, object] = {}
-        self._failure: BaseException | None = None
-        self._mutex = threading.Lock()                # for the solvers leaving together after a failure
-        self.calls = 0
-        self.evaluations = 0
 
-    def begin(self) -> None:
-        if self._order:
-            self._turn[self._order[0]].set()
+def _with_jacobian(residuals, z, owner, lb, ub, mask, h, tally):
+    """Residuals (k, m) at the points ``z`` (k, n) of problems ``owner`` and their forward-difference
+    Jacobians (k, n, m), from one call."""
+    k, n = z.shape
+    hs = np.where(z + h > ub[owner], -h, h)
+    P = np.repeat(z[:, None, :], n + 1, axis=1)
+    P[:, 1:, :] += hs[:, None, :] * np.eye(n)
+    valid = np.hstack([np.ones((k, 1), dtype=bool), mask[owner]])
+    R = _evaluate(residuals, P[valid], np.repeat(owner, valid.sum(axis=1)), tally)
+    full = np.zeros((k, n + 1, R.shape[1]))
+    full[valid] = R
+    r = full[:, 0]
+    with np.errstate(invalid="ignore"):
+        J = (full[:, 1:] - r[:, None, :]) / hs[:, :, None]
+    J = np.where(mask[owner][:, :, None] & np.isfinite(J), J, 0.0)
+    return r, J
 
-    def wait_turn(self, i: int) -> None:
-        self._turn[i].wait()
-        self._turn[i].clear()
-        if self._failure is not None:
-            raise _Abandoned
 
-    def evaluate(self, i: int, rows: np.ndarray) -> np.ndarray:
-        self._asked[i] = rows
-        self._pass_on(self._order.index(i) + 1)
-        self.wait_turn(i)
-        answer = self._answers.pop(i)
-        if isinstance(answer, Exception):
-            raise answer
-        return answer
-
-    def leave(self, i: int) -> None:
-        with self._mutex:
-            at = self._order.index(i)
-            self._order.pop(at)
-            if self._failure is not None:      # every solver is awake and leaving
-                return
-        self._turn.pop(i)
-        self._pass_on(at)
-
-    def raise_failure(self) -> None:
-        if self._failure is not None:
-            raise self._failure
-
-    def _pass_on(self, at: int) -> None:
-        """The turn to the solver at position ``at`` of this round, or, past the last one, the round's
-        call and then the turn to the first solver (every waiting solver, when the call failed)."""
-        if at < len(self._order):
-            self._turn[self._order[at]].set()
-            return
-        if self._asked:
-            order = [k for k in self._order if k in self._asked]
-            blocks = [self._asked.pop(k) for k in order]
-            try:
-                self._answers.update(zip(order, self._evaluate(blocks)))
-            except BaseException as e:  # noqa: BLE001 - an interrupt: re-raised by raise_failure in the caller
-                self._failure = e
-                for ev in list(self._turn.values()):
-                    ev.set()
-                return
-        if self._order:
-            self._turn[self._order[0]].set()
-
-    def _evaluate(self, blocks: list[np.ndarray]) -> list:
-        """Residuals of every block from one call; when that call raises, block by block, each
-        block's own error going back to its solver (as if it had been evaluated alone)."""
+def _evaluate(residuals, P: np.ndarray, owner: np.ndarray, tally: dict) -> np.ndarray:
+    """``residuals(P, owner)`` in one call; when that call raises, problem by problem, the rows of a
+    problem whose own call raises NaN (its trial is refused, as if it had been evaluated alone)."""
+    tally["evaluations"] += len(P)
+    tally["calls"] += 1
+    try:
+        R = np.asarray(residuals(P, owner), dtype=float)
+        tally["width"] = R.shape[1]
+        return R
+    except Exception:  # noqa: BLE001 - found again below, problem by problem
+        tally["calls"] -= 1
+    out = None
+    for i in np.unique(owner):
+        rows = owner == i
+        tally["calls"] += 1
         try:
-            out = self._residuals(blocks)
-            self.calls += 1
-            self.evaluations += sum(len(b) for b in blocks)
-            return out
-        except Exception:  # noqa: BLE001 - found again below, block by block
-            out = []
-            for b in blocks:
-                try:
-                    out.append(self._residuals([b])[0])
-                    self.evaluations += len(b)
-                except Exception as e:  # noqa: BLE001 - raised in the solver that asked
-                    out.append(e)
-                self.calls += 1
-            return out
+            R = np.asarray(residuals(P[rows], owner[rows]), dtype=float)
+        except Exception:  # noqa: BLE001 - this problem's trial is refused
+            continue
+        tally["width"] = R.shape[1]
+        if out is None:
+            out = np.full((len(P), R.shape[1]), np.nan)
+        out[rows] = R
+    if out is None:
+        if "width" not in tally:
+            raise ValueError("no starting point of the polish could be evaluated")
+        out = np.full((len(P), tally["width"]), np.nan)
+    return out
 
 
-def _summary(study, enc, X, sc, kept, gains, repaired, lock: _Lockstep, cols: np.ndarray):
+def _damped_step(J, r, z, lb, ub, mask, lam):
+    """The projected Levenberg–Marquardt step ``δ`` (k, n) and the reduction of ``0.5 |r|²`` its
+    linear model predicts (k,). Variables at a bound whose descent direction leaves the box are held."""
+    A = np.einsum("knm,kpm->knp", J, J)
+    g = np.einsum("knm,km->kn", J, np.nan_to_num(r))
+    held = ~mask | ((z <= lb) & (g > 0)) | ((z >= ub) & (g < 0))
+    d = np.diagonal(A, axis1=1, axis2=2)
+    d = np.maximum(d, 1e-12 * d.max(axis=1, keepdims=True) + 1e-300)
+    keep = ~held
+    A = A * (keep[:, :, None] & keep[:, None, :])
+    g = np.where(keep, g, 0.0)
+    M = A + np.eye(A.shape[1]) * np.where(keep, lam[:, None] * d, 1.0)[:, :, None]
+    delta = np.linalg.solve(M, -g[:, :, None])[:, :, 0]
+    pred = -(np.einsum("kn,kn->k", g, delta) + 0.5 * np.einsum("kn,knp,kp->k", delta, A, delta))
+    return delta, pred
+
+
+def _summary(study, enc, X, sc, kept, gains, repaired, fit: BatchFit, cols: np.ndarray):
     ok = np.all(sc.G[:, cols] <= 0, axis=1)
     info = {"starts": int(len(X)), "improved": len(gains), "made_feasible": repaired,
-            "evaluations": int(lock.evaluations), "calls": int(lock.calls)}
+            "evaluations": int(fit.evaluations), "calls": int(fit.calls)}
     if gains:
         g = np.array(gains)
         info["median_reduction_pct"] = float(np.median(100 * (1 - g[:, 1] / g[:, 0])))

@@ -19,10 +19,10 @@ class SearchSettings:
     topology_share : float        share of survivors kept for topologies otherwise lost
     duplicate_decimals : int      genomes equal to this many decimals are duplicates
     polish_margin : float         constraints are held this far (normalised) inside their bounds in the polish
-    polish_max_nfev : int         least-squares evaluations per design in the final polish
+    polish_steps : int            least-squares steps per design in the final polish (one population call each)
     polish_lowest : int           the final polish starts from this many lowest-error front designs ...
     polish_per_topology : int     ... and this many best designs of every topology in the population
-    inject_max_nfev : int         least-squares evaluations per design in the memetic steps during the search
+    inject_steps : int            least-squares steps per design in the memetic steps during the search
     inject_min_generations : int  runs shorter than this have no memetic steps (at 1/3 and 2/3 of the run)
     max_designs : int             at most this many Pareto designs are returned
     yield_samples : int           parts per design of the in-spec share reported for every Pareto design
@@ -36,10 +36,10 @@ class SearchSettings:
     topology_share: float = 0.25
     duplicate_decimals: int = 9
     polish_margin: float = 0.01
-    polish_max_nfev: int = 60
+    polish_steps: int = 25
     polish_lowest: int = 12
     polish_per_topology: int = 2
-    inject_max_nfev: int = 25
+    inject_steps: int = 12
     inject_min_generations: int = 12
     max_designs: int = 24
     yield_samples: int = 200
