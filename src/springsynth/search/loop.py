@@ -15,6 +15,7 @@ from typing import Callable
 
 import numpy as np
 from pymoo.algorithms.moo.nsga2 import NSGA2
+from pymoo.operators.selection.tournament import TournamentSelection
 
 from springsynth.model.study import Study
 from springsynth.search import checkpoint
@@ -23,12 +24,14 @@ from springsynth.search.front import best_per_topology, pareto_front, rows_of, t
 from springsynth.search.metrics import hypervolume
 from springsynth.search.operators import (
     _Crossover,
+    _Evaluator,
     _HashDuplicates,
     _Mutation,
     _Problem,
     _Repair,
     _Sampling,
     _TopologySurvival,
+    tournament,
 )
 from springsynth.search.polish import polish_designs
 from springsynth.search.scoring import CONSTRAINTS, Scores, score
@@ -124,8 +127,9 @@ class _State:
               warm_start: np.ndarray | None, polish: bool) -> "_State":
         enc = Encoding(study)
         algo = NSGA2(pop_size=population, sampling=_Sampling(enc, warm_start), crossover=_Crossover(enc),
+                     selection=TournamentSelection(func_comp=tournament),
                      mutation=_Mutation(enc), repair=_Repair(enc), eliminate_duplicates=_HashDuplicates(enc),
-                     survival=_TopologySurvival(enc))
+                     survival=_TopologySurvival(enc), evaluator=_Evaluator())
         algo.setup(_Problem(study, enc), termination=("n_gen", generations), seed=seed, verbose=False)
         inject_at = ({generations // 3, (2 * generations) // 3}
                      if polish and generations >= SETTINGS.inject_min_generations else set())
@@ -169,7 +173,8 @@ def _generation(state: _State, t0: float, on_generation: Callable[[Progress], No
     algo.next()
     if algo.n_gen in state.inject_at:
         state.polish_evals += _inject_polished(state.problem.study, state.problem.enc, state.problem, algo)
-    F, G = algo.pop.get("F"), algo.pop.get("G")
+    F = np.array([ind.F for ind in algo.pop], dtype=float)
+    G = np.array([ind.G for ind in algo.pop], dtype=float)
     ok = np.all(G <= 0, axis=1)
     best = float(F[ok, 0].min()) if ok.any() else math.nan
     hv = hypervolume(state.problem.study, F, G)
@@ -236,7 +241,6 @@ def _inject_polished(study, enc, problem, algo) -> int:
 
     Returns the number of model evaluations spent (each polish evaluates designs in batches).
     """
-    from pymoo.core.evaluator import Evaluator
     from pymoo.core.population import Population
 
     X = algo.pop.get("X")
@@ -245,7 +249,7 @@ def _inject_polished(study, enc, problem, algo) -> int:
     X2, info = polish_designs(study, enc, X[starts], take(sc, starts), max_steps=SETTINGS.inject_steps)
     if len(X2):
         new = Population.new("X", X2)
-        Evaluator().eval(problem, new)
+        _Evaluator().eval(problem, new)
         merged = Population.merge(algo.pop, new)
         algo.pop = algo.survival.do(problem, merged, n_survive=algo.pop_size, algorithm=algo,
                                     random_state=algo.random_state)

@@ -11,11 +11,14 @@ from __future__ import annotations
 import numpy as np
 from pymoo.core.crossover import Crossover
 from pymoo.core.duplicate import DuplicateElimination
+from pymoo.core.evaluator import Evaluator
+from pymoo.core.individual import Individual
 from pymoo.core.mutation import Mutation
 from pymoo.core.problem import Problem
 from pymoo.core.repair import Repair
 from pymoo.core.sampling import Sampling
 from pymoo.operators.survival.rank_and_crowding import RankAndCrowding
+from pymoo.util.randomized_argsort import randomized_argsort
 
 from springsynth.model.study import Study
 from springsynth.search.encoding import Encoding
@@ -156,6 +159,33 @@ def _pm(X, xl, xu, eta, rng):
     return np.clip(X + dq * d, xl, xu)
 
 
+class _Evaluator(Evaluator):
+    """pymoo's evaluator with the values written into the individuals directly.
+
+    pymoo's ``Population.set`` looks each value's name up on every individual; here each name is
+    looked up once. The constraint violation is computed for all designs at once, as pymoo's
+    ``calc_cv`` computes it for one (the sum of the positive parts of the inequality constraints;
+    this problem has no equality constraints), and cached in the individuals as pymoo caches it.
+    """
+
+    def _eval(self, problem, pop, evaluate_values_of, **kwargs):
+        X = np.array([ind.X for ind in pop], dtype=float)
+        out = problem.evaluate(X, return_values_of=evaluate_values_of, return_as_dictionary=True, **kwargs)
+        cols = [(k, v, hasattr(Individual, k)) for k, v in out.items() if v is not None]
+        G = out.get("G")
+        cv = np.maximum(0.0, G).sum(axis=1)[:, None] if G is not None and G.shape[1] and problem.n_eq_constr == 0 else None
+        names = set(out)
+        for i, ind in enumerate(pop):
+            for k, v, attribute in cols:
+                if attribute:
+                    setattr(ind, k, v[i])
+                else:
+                    ind.data[k] = v[i]
+            if cv is not None:
+                ind._CV = cv[i]
+            ind.evaluated.update(names)
+
+
 class _Repair(Repair):
     """Round integer and category genes; nothing else (rounding reals would destroy them)."""
 
@@ -183,7 +213,7 @@ class _HashDuplicates(DuplicateElimination):
         self.enc = enc
 
     def _keys(self, pop):
-        X = pop.get("X")
+        X = np.array([ind.X for ind in pop], dtype=float).reshape(len(pop), -1)
         enc = getattr(self, "enc", None)
         if enc is not None and enc.link_gene:
             X = canonical_genomes(enc, X)
@@ -221,6 +251,11 @@ class _TopologySurvival(RankAndCrowding):
     the first topology that works. Here the best-ranked ``1 - share`` of survivors
     are chosen as usual; the remaining places go first to the best member of each
     topology (the set of kinds in a design) not yet among them, then as usual.
+
+    "As usual" is pymoo's feasibility-first rank and crowding (``Survival.do`` with
+    ``RankAndCrowding._do``: feasible designs by non-dominated rank, the split front by
+    crowding distance, then infeasible ones by violation), done here on arrays read once
+    from the population rather than on its individuals one attribute at a time.
     """
 
     def __init__(self, enc: Encoding, share: float = SETTINGS.topology_share):
@@ -230,29 +265,71 @@ class _TopologySurvival(RankAndCrowding):
     def do(self, problem, pop, *args, n_survive=None, random_state=None, return_indices=False, **kwargs):
         n_survive = min(n_survive or len(pop), len(pop))
         n_head = n_survive - int(self.share * n_survive)
-        head = list(super().do(problem, pop, *args, n_survive=n_head, random_state=random_state,
-                               return_indices=True, **kwargs))
-        keys = topology_keys(self.enc, pop.get("X"))
+        F = np.array([ind.F for ind in pop], dtype=float)
+        cv = np.array([ind.CV[0] for ind in pop], dtype=float)
+        rank = np.full(len(pop), -1)
+        crowd = np.zeros(len(pop))
+        head = self._rank_and_crowding(F, cv, np.arange(len(pop)), n_head, random_state, rank, crowd)
+        keys = topology_keys(self.enc, np.array([ind.X for ind in pop]))
         seen = {keys[i] for i in head}
         rest = np.setdiff1d(np.arange(len(pop)), head)
-        cv, err = pop.get("CV")[:, 0], pop.get("F")[:, 0]
         extra = []
-        for i in rest[np.lexsort((err[rest], cv[rest]))]:
+        for i in rest[np.lexsort((F[rest, 0], cv[rest]))]:
             if len(extra) >= n_survive - n_head:
                 break
             if keys[i] not in seen:
                 seen.add(keys[i])
                 extra.append(int(i))
-        fill: list[int] = []
         left = n_survive - n_head - len(extra)
-        if left > 0:
-            others = np.setdiff1d(rest, extra)
-            picked = super().do(problem, pop[others], *args, n_survive=left, random_state=random_state,
-                                return_indices=True, **kwargs)
-            fill = [int(others[j]) for j in picked]
-        idx = head + extra + fill
-        out = pop[idx]
-        for ind in out:
-            if ind.get("crowding") is None:
-                ind.set("crowding", 0.0)
-        return idx if return_indices else out
+        fill = (self._rank_and_crowding(F, cv, np.setdiff1d(rest, extra), left, random_state, rank, crowd)
+                if left > 0 else [])
+        idx = [int(i) for i in head] + extra + [int(i) for i in fill]
+        for i in idx:
+            data = pop[i].data
+            if rank[i] >= 0:
+                data["rank"], data["crowding"] = int(rank[i]), float(crowd[i])
+            elif data.get("crowding") is None:
+                data["crowding"] = 0.0
+        return idx if return_indices else pop[idx]
+
+    def _rank_and_crowding(self, F, cv, rows, n_survive, random_state, rank, crowd) -> np.ndarray:
+        """``n_survive`` of ``rows``: feasible ones by rank and crowding, then infeasible ones by violation.
+        Writes the rank and crowding distance of every feasible row sorted into ``rank`` and ``crowd``."""
+        feas = rows[cv[rows] <= 0.0]
+        infeas = rows[cv[rows] > 0.0]
+        infeas = infeas[np.argsort(cv[infeas])]
+        out = []
+        if len(feas):
+            for k, front in enumerate(self.nds.do(F[feas], n_stop_if_ranked=min(len(feas), n_survive))):
+                n_remove = len(out) + len(front) - n_survive
+                d = self.crowding_func.do(F[feas[front]], n_remove=max(n_remove, 0))
+                order = np.arange(len(front))
+                if n_remove > 0:
+                    order = randomized_argsort(d, order="descending", method="numpy",
+                                               random_state=random_state)[:-n_remove]
+                rank[feas[front]], crowd[feas[front]] = k, d
+                out.extend(feas[front[order]])
+        out.extend(infeas[:max(n_survive - len(out), 0)])
+        return np.array(out, dtype=np.intp)
+
+
+def tournament(pop, P, algorithm, random_state=None, **kwargs) -> np.ndarray:
+    """NSGA-II's binary tournament (pymoo's ``binary_tournament``, "comp_by_dom_and_crowding"), on arrays.
+
+    Where either design violates a constraint the smaller violation wins; between two feasible
+    designs the dominating one wins, else the larger crowding distance. Ties are settled by
+    ``random_state.choice`` in tournament order, as pymoo's loop settles them, so the winners are
+    the same; only the comparisons are done on arrays read once from the population.
+    """
+    a, b = P[:, 0], P[:, 1]
+    F = np.array([ind.F for ind in pop], dtype=float)
+    cv = np.array([ind.CV[0] for ind in pop], dtype=float)
+    cd = np.array([np.nan if (c := ind.data.get("crowding")) is None else c for ind in pop], dtype=float)
+    infeasible = (cv[a] > 0.0) | (cv[b] > 0.0)
+    a_dom = np.all(F[a] <= F[b], axis=1) & np.any(F[a] < F[b], axis=1)
+    b_dom = np.all(F[b] <= F[a], axis=1) & np.any(F[b] < F[a], axis=1)
+    S = np.where(infeasible, np.where(cv[a] < cv[b], a, np.where(cv[b] < cv[a], b, -1)),
+                 np.where(a_dom, a, np.where(b_dom, b, np.where(cd[a] > cd[b], a, np.where(cd[a] < cd[b], b, -1)))))
+    for i in np.flatnonzero(S < 0):
+        S[i] = random_state.choice([a[i], b[i]])
+    return S[:, None].astype(int, copy=False)
