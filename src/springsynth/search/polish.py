@@ -104,14 +104,15 @@ def polish_designs(study: Study, enc: Encoding, X: np.ndarray, sc: Scores, *, ma
 def _residual_function(study: Study, enc: Encoding, cols: np.ndarray, genomes: Callable, rules: list[str]):
     """The residuals of points of the polish's problems, ``(Z, owner) -> R`` of shape (rows, m + constraints).
 
-    The validity constraint, the worst margin over the rules of the trade, is split into one hinge per
-    rule (``rules``; a rule not among them joins the last): a maximum of several margins has a kink
-    where the worst one changes, and a Gauss–Newton step stalls on such kinks, while a sum of
-    squared hinges is smooth to first order."""
+    Constraints that are a maximum of several margins have a kink where the worst one changes, and a
+    Gauss–Newton step stalls on such kinks, while a sum of squared hinges is smooth to first order. So
+    the validity constraint (the worst margin over the rules of the trade) is split into one hinge per
+    rule (``rules``; a rule not among them joins the last), and the cross-section (the larger of the
+    width and height ratios in the better orientation) into a hinge for each of the two."""
     t = study.target
     w = np.sqrt(t.weight / t.weight.sum()) * 100.0 / t.scale_N
-    valid = CONSTRAINTS.index("validity")
-    others = cols[cols != valid]
+    split = [CONSTRAINTS.index("validity"), CONSTRAINTS.index("envelope_cross")]
+    others = cols[~np.isin(cols, split)]
 
     def residuals(Z: np.ndarray, owner: np.ndarray) -> np.ndarray:
         slots = enc.decode(genomes(Z, owner), snap=False)   # unrounded: rounded once, after, and evaluated again
@@ -121,9 +122,20 @@ def _residual_function(study: Study, enc: Encoding, cols: np.ndarray, genomes: C
             fatigue = fatigue_population(slots, study.duty) if study.duty is not None else None
         G = constraints(study, r, err, fatigue)[:, others]
         V = _rule_margins(r.validity, rules, len(Z))
-        return np.hstack([(r.force_N - t.force_N) * w, 100.0 * np.maximum(np.hstack([G, V]) + SETTINGS.polish_margin, 0.0)])
+        C = _cross_margins(r.box_mm, study.envelope)
+        return np.hstack([(r.force_N - t.force_N) * w,
+                          100.0 * np.maximum(np.hstack([G, V, C]) + SETTINGS.polish_margin, 0.0)])
 
     return residuals
+
+
+def _cross_margins(box_mm: np.ndarray, env) -> np.ndarray:
+    """Width and height margins (n, 2) in the better of the two quarter-turn orientations, the parts of
+    :func:`~springsynth.assembly.evaluate.envelope_margins`' cross-section margin."""
+    w, h = box_mm[:, 1], box_mm[:, 2]
+    upright = np.maximum(w / env.width_mm, h / env.height_mm) <= np.maximum(w / env.height_mm, h / env.width_mm)
+    return np.stack([np.where(upright, w / env.width_mm, h / env.width_mm),
+                     np.where(upright, h / env.height_mm, w / env.height_mm)], axis=1) - 1.0
 
 
 def _rule_margins(validity: dict, rules: list[str], n: int) -> np.ndarray:
@@ -166,19 +178,20 @@ def solve_batch(residuals: Callable[[np.ndarray, np.ndarray], np.ndarray], z0: n
         Forward-difference step (taken backwards at an upper bound).
     """
     k, n = z0.shape
-    z = np.clip(z0, lb, ub)
+    z = np.clip(z0, lb + 1e-10 * (ub - lb), ub - 1e-10 * (ub - lb))    # strictly inside, as scipy's "trf" starts
     lam, nu = np.full(k, _LAM0), np.full(k, 2.0)
     steps = np.zeros(k, dtype=np.intp)
     tally = {"calls": 0, "evaluations": 0}
     r, J = _with_jacobian(residuals, z, np.arange(k), lb, ub, mask, h, tally)
     cost = 0.5 * np.einsum("km,km->k", r, r)
+    cn = _column_norms(J, mask, np.zeros((k, n)))
     solved = np.isfinite(cost)
     active = solved.copy()
     for _ in range(max_steps):
         a = np.flatnonzero(active)
         if not a.size:
             break
-        delta, pred = _damped_step(J[a], r[a], z[a], lb[a], ub[a], mask[a], lam[a])
+        delta, pred = _damped_step(J[a], r[a], z[a], lb[a], ub[a], mask[a], lam[a], cn[a])
         zt = np.where(mask[a], np.clip(z[a] + delta, lb[a], ub[a]), z[a])
         rt, Jt = _with_jacobian(residuals, zt, a, lb, ub, mask, h, tally)
         with np.errstate(invalid="ignore", over="ignore"):
@@ -194,8 +207,15 @@ def solve_batch(residuals: Callable[[np.ndarray, np.ndarray], np.ndarray], z0: n
         nu[a] = np.where(acc, 2.0, 2.0 * nu[a])
         take = a[acc]
         z[take], r[take], J[take], cost[take] = zt[acc], rt[acc], Jt[acc], ct[acc]
+        cn[take] = _column_norms(Jt[acc], mask[take], cn[take])
         active[a[(acc & small) | (cost[a] == 0.0) | (lam[a] > _LAM_MAX)]] = False
     return BatchFit(z, cost, solved, steps, tally["calls"], tally["evaluations"])
+
+
+def _column_norms(J, mask, before):
+    """The largest Jacobian column norms seen, (k, n) (scipy's ``x_scale="jac"``); 1 where a column is zero."""
+    cn = np.maximum(before, np.sqrt(np.einsum("knm,knm->kn", J, J)))
+    return np.where(mask & (cn > 0), cn, 1.0)
 
 
 def _with_jacobian(residuals, z, owner, lb, ub, mask, h, tally):
@@ -246,20 +266,34 @@ def _evaluate(residuals, P: np.ndarray, owner: np.ndarray, tally: dict) -> np.nd
     return out
 
 
-def _damped_step(J, r, z, lb, ub, mask, lam):
-    """The projected Levenberg–Marquardt step ``δ`` (k, n) and the reduction of ``0.5 |r|²`` its
-    linear model predicts (k,). Variables at a bound whose descent direction leaves the box are held."""
+def _damped_step(J, r, z, lb, ub, mask, lam, cn):
+    """The damped step ``δ`` (k, n) in Coleman & Li's scaled variables and the reduction of ``0.5 |r|²``
+    its quadratic model predicts (k,).
+
+    As in scipy's bounded trust-region method ("trf"; Branch, Coleman & Li 1999, SIAM J. Sci. Comput.
+    21(1)): each variable is scaled by ``sqrt(v) / cn``, where ``v`` is its distance to the bound its
+    descent direction points at (so a variable slows down as it nears that bound) and ``cn`` the
+    largest column norm of its Jacobian seen so far; the model gains the diagonal term ``g dv / cn``.
+    The damped system ``(Ĵᵀ Ĵ + diag(c) + λ I) p = -ĝ`` replaces the trust-region subproblem, and the
+    variables that would cross a bound stop short of it (at the share ``max(0.995, 1 - |g v|_inf)`` of
+    the way), the others keep their step."""
     A = np.einsum("knm,kpm->knp", J, J)
     g = np.einsum("knm,km->kn", J, np.nan_to_num(r))
-    held = ~mask | ((z <= lb) & (g > 0)) | ((z >= ub) & (g < 0))
-    d = np.diagonal(A, axis1=1, axis2=2)
-    d = np.maximum(d, 1e-12 * d.max(axis=1, keepdims=True) + 1e-300)
-    keep = ~held
-    A = A * (keep[:, :, None] & keep[:, None, :])
-    g = np.where(keep, g, 0.0)
-    M = A + np.eye(A.shape[1]) * np.where(keep, lam[:, None] * d, 1.0)[:, :, None]
-    delta = np.linalg.solve(M, -g[:, :, None])[:, :, 0]
-    pred = -(np.einsum("kn,kn->k", g, delta) + 0.5 * np.einsum("kn,knp,kp->k", delta, A, delta))
+    dv = np.where(mask, np.sign(g), 0.0)
+    v = np.where(g < 0, ub - z, np.where(g > 0, z - lb, 1.0))
+    v = np.where(dv != 0, v * cn, v)
+    dh = np.where(mask, np.sqrt(v) / cn, 0.0)
+    Ah = A * dh[:, :, None] * dh[:, None, :]
+    gh = g * dh
+    c = np.where(mask, g * dv / cn, 0.0)
+    M = Ah + np.eye(A.shape[1]) * (c + np.where(mask, lam[:, None], 1.0))[:, :, None]
+    p = np.linalg.solve(M, -gh[:, :, None])[:, :, 0]
+    delta = dh * p
+    theta = np.maximum(0.995, 1.0 - np.max(np.abs(g * v), axis=1))[:, None]
+    cut = np.clip(delta, theta * (lb - z), theta * (ub - z))
+    p = np.where(dh > 0, p * np.divide(cut, delta, out=np.ones_like(delta), where=delta != 0), 0.0)
+    delta = cut
+    pred = -(np.einsum("kn,kn->k", gh, p) + 0.5 * (np.einsum("kn,knp,kp->k", p, Ah, p) + np.einsum("kn,kn->k", c * p, p)))
     return delta, pred
 
 
