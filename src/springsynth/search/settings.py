@@ -36,10 +36,10 @@ class SearchSettings:
     topology_share: float = 0.25
     duplicate_decimals: int = 9
     polish_margin: float = 0.01
-    polish_steps: int = 25
+    polish_steps: int = 40
     polish_lowest: int = 12
     polish_per_topology: int = 2
-    inject_steps: int = 12
+    inject_steps: int = 25
     inject_min_generations: int = 12
     max_designs: int = 24
     yield_samples: int = 200
