@@ -237,7 +237,7 @@ def _final_polish(out: SearchOutcome, study: Study, enc: Encoding, Xpop: np.ndar
 
 
 def _inject_polished(study, enc, problem, algo) -> int:
-    """Memetic step: polish the best design of each topology and merge the results back.
+    """Memetic step: polish the best designs of each topology and merge the results back.
 
     Returns the number of model evaluations spent (each polish evaluates designs in batches).
     """
@@ -245,7 +245,7 @@ def _inject_polished(study, enc, problem, algo) -> int:
 
     X = algo.pop.get("X")
     sc = score(study, enc.decode(X))
-    starts = best_per_topology(enc, X, sc, per_topology=1)
+    starts = best_per_topology(enc, X, sc, per_topology=SETTINGS.inject_per_topology)
     X2, info = polish_designs(study, enc, X[starts], take(sc, starts), max_steps=SETTINGS.inject_steps)
     if len(X2):
         new = Population.new("X", X2)

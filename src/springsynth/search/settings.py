@@ -23,6 +23,7 @@ class SearchSettings:
     polish_lowest : int           the final polish starts from this many lowest-error front designs ...
     polish_per_topology : int     ... and this many best designs of every topology in the population
     inject_steps : int            least-squares steps per design in the memetic steps during the search
+    inject_per_topology : int     the memetic steps start from this many best designs of every topology
     inject_min_generations : int  runs shorter than this have no memetic steps (at 1/3 and 2/3 of the run)
     max_designs : int             at most this many Pareto designs are returned
     yield_samples : int           parts per design of the in-spec share reported for every Pareto design
@@ -37,9 +38,10 @@ class SearchSettings:
     duplicate_decimals: int = 9
     polish_margin: float = 0.01
     polish_steps: int = 40
-    polish_lowest: int = 12
+    polish_lowest: int = 24
     polish_per_topology: int = 2
     inject_steps: int = 25
+    inject_per_topology: int = 2
     inject_min_generations: int = 12
     max_designs: int = 24
     yield_samples: int = 200
