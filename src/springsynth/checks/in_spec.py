@@ -25,7 +25,7 @@ import numpy as np
 
 from springsynth.assembly.evaluate import evaluate_population
 from springsynth.assembly.slots import Slots
-from springsynth.checks.tolerance import SIGMAS_PER_TOLERANCE, _perturb, _sigmas
+from springsynth.checks.tolerance import SIGMAS_PER_TOLERANCE, perturb, sigmas
 from springsynth.model.target import Target
 
 __all__ = ["in_spec_share", "yield_draws", "standard_error", "worst_standard_error", "YIELD_STREAM"]
@@ -92,7 +92,7 @@ def in_spec_share(target: Target, slots: Slots, *, band_pct: float, n_samples: i
     if n == 0:
         return np.zeros(0)
     zp, zo, ze = yield_draws(int(n_samples), S, P, int(seed))
-    parts = _perturb(slots, _sigmas(slots), zp, zo, ze)
+    parts = perturb(slots, sigmas(slots), zp, zo, ze)
     r = evaluate_population(parts, target.x_mm, x_max_mm=target.stroke_mm)
     with np.errstate(invalid="ignore"):
         ok = target.in_spec(r.force_N, band_pct) & r.finite

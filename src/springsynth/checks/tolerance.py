@@ -69,7 +69,7 @@ from springsynth.model.errors import InputError
 from springsynth.model.materials import Material
 
 __all__ = ["tolerance_analysis", "ToleranceResult", "robust_error", "PROCESSES", "modulus_tolerance",
-           "param_tolerance"]
+           "param_tolerance", "Sigmas", "sigmas", "perturb"]
 
 PROCESSES = ("auto", "rolled_strip", "drawn_wire", "machined", "moulded", "moulded_rubber", "printed")
 #: +-T is read as +-3 sigma
@@ -179,7 +179,7 @@ def offset_tolerance(cls: np.ndarray) -> np.ndarray:
 # --------------------------------------------------------------------------- perturbation core
 
 @dataclass(frozen=True)
-class _Sigmas:
+class Sigmas:
     """One-sigma perturbations of a population, shapes (n, S, P), (n, S), (M,)."""
 
     params: np.ndarray
@@ -187,7 +187,9 @@ class _Sigmas:
     modulus: np.ndarray      # relative, per material of ``slots.materials``
 
 
-def _sigmas(slots: Slots, process: str = "auto") -> _Sigmas:
+def sigmas(slots: Slots, process: str = "auto") -> Sigmas:
+    """One-sigma perturbations of every parameter, offset and modulus of the population ``slots`` under
+    ``process`` (a name of ``PROCESSES``; "auto" picks each element's usual process)."""
     n, S, P = slots.params.shape
     mats = slots.materials
     E = np.array([m.E_MPa for m in mats])
@@ -202,7 +204,7 @@ def _sigmas(slots: Slots, process: str = "auto") -> _Sigmas:
             sp[rows, j, c] = param_tolerance(q, slots.params[rows, j, c], cls, process) \
                 / SIGMAS_PER_TOLERANCE
         so[rows, j] = offset_tolerance(cls) / SIGMAS_PER_TOLERANCE
-    return _Sigmas(sp, so, modulus_tolerance(mcls) / SIGMAS_PER_TOLERANCE)
+    return Sigmas(sp, so, modulus_tolerance(mcls) / SIGMAS_PER_TOLERANCE)
 
 
 @lru_cache(maxsize=16)
@@ -216,7 +218,7 @@ def _scaled_materials(mats: tuple[Material, ...], factors: tuple[tuple[float, ..
     return tuple(out)
 
 
-def _perturb(slots: Slots, sig: _Sigmas, zp: np.ndarray, zo: np.ndarray, ze: np.ndarray) -> Slots:
+def perturb(slots: Slots, sig: Sigmas, zp: np.ndarray, zo: np.ndarray, ze: np.ndarray) -> Slots:
     """Rows ``i * k + r`` = design i with perturbation r.
 
     Parameters
@@ -281,9 +283,9 @@ def robust_error(study, slots: Slots, n_samples: int = 32, percentile: float = 9
     """
     t = study.target
     n, S, P = slots.params.shape
-    sig = _sigmas(slots)
+    sig = sigmas(slots)
     zp, zo, ze = _fixed_draws(n_samples, S, P, seed)
-    pert = _perturb(slots, sig, zp, zo, ze)
+    pert = perturb(slots, sig, zp, zo, ze)
     r = evaluate_population(pert, t.x_mm, x_max_mm=t.stroke_mm)
     with np.errstate(all="ignore"):
         err = t.curve_error_pct(r.force_N).reshape(n, n_samples)
@@ -347,7 +349,7 @@ class ToleranceResult:
                              "p50_N": self.p50_N, "p95_N": self.p95_N})
 
 
-def _quantities(design: Design, slots: Slots, sig: _Sigmas):
+def _quantities(design: Design, slots: Slots, sig: Sigmas):
     """(label, kind of quantity, slot, column, sigma, nominal, source) for every perturbed quantity.
 
     A chain's links have no offset of their own: the chain's (its first link's slot) is perturbed once.
@@ -423,7 +425,7 @@ def tolerance_analysis(design: Design, x_mm: np.ndarray, *, target=None, n_sampl
     x = np.asarray(x_mm, dtype=float)
     base = Slots.from_designs([design])
     _, S, P = base.params.shape
-    sig = _sigmas(base, process)
+    sig = sigmas(base, process)
     rng = np.random.default_rng(seed)
     z = np.clip(rng.standard_normal((n_samples, S, P + 2)), -SIGMAS_PER_TOLERANCE, SIGMAS_PER_TOLERANCE)
     quants = _quantities(design, base, sig)
@@ -431,7 +433,7 @@ def tolerance_analysis(design: Design, x_mm: np.ndarray, *, target=None, n_sampl
     zp = np.concatenate([z[:, :, :P], zs_p])
     zo = np.concatenate([z[:, :, P], zs_o])
     ze = np.concatenate([z[:, :, P + 1], zs_e])
-    pert = _perturb(base, sig, zp, zo, ze)
+    pert = perturb(base, sig, zp, zo, ze)
     r = evaluate_population(pert, x, x_max_mm=float(x.max()))      # one call: N samples + sensitivity rows
     F_all = r.force_N
     F = F_all[:n_samples]
@@ -532,7 +534,7 @@ def _difference_step(what: str, nom: float, sigma: float) -> tuple[float, float]
 
     A relative step of 1e-3 of the value, central; one sigma for offsets. A parameter whose
     nominal is 0 (a straight column's rise) gets one sigma too, and as its step down is clipped
-    at 0 (:func:`_perturb`) the difference is a forward one over one sigma, ``dq = sigma``.
+    at 0 (:func:`perturb`) the difference is a forward one over one sigma, ``dq = sigma``.
     """
     if what == "param" and nom == 0:
         return 1.0, sigma
