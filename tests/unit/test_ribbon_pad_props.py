@@ -193,3 +193,38 @@ def test_pad_kernel_matches_its_pointwise_model():
     F = PAD.force({"length_mm": L, "width_mm": W, "thickness_mm": t}, mat, e * t[:, None])
     pointwise = ep.nominal_stress(e, L, W, t, mat) * (L * W)[:, None]
     assert np.abs(F / pointwise - 1.0).max() <= 0.005
+
+
+def test_pad_law_band_against_the_closed_forms_of_an_alpha_4_law():
+    # A one-term Ogden law W = (mu/4)(l1^4 + l2^4 + l3^4 - 3) (R.W. Ogden, Proc. R. Soc. Lond. A
+    # 326:565, 1972), small-strain shear modulus G = 2 mu. Simple shear (l1,2 = exp(+-s), gamma =
+    # 2 sinh s): tau = dW/dgamma = mu sinh(4s)/cosh(s) = mu gamma (2 + gamma^2), secant over G
+    # 1 + gamma^2/2. Uniaxial compression at stretch l: nominal stress mu (l^-3 - l^3), over the
+    # neo-Hookean 2 mu (l^-2 - l). The kernel's margin is the larger of (r - 1)/(hi - 1) - 1 and
+    # (1 - r)/(1 - lo) - 1 over both bands, at the largest stroke here (both ratios are monotonic),
+    # with the bonded edge's shear strain gamma = 6 S eps/(1 - eps)^2.
+    from springsynth.elements.elastomer_pad import SHEAR_SECANT_BAND, UNIAXIAL_RATIO_BAND, shape_factor
+    mat = MaterialArrays.of(rubber(law="ogden", mu_MPa=[0.25], alpha=[4.0]), 3)
+    p = pad_params(3, length=20.0, width=20.0, thickness=5.0)          # S = 1
+    eps = np.array([0.02, 0.05, 0.1])
+    margin = PAD.validity_margins(p, mat, eps * 5.0)["law_nonlinearity"]
+    gamma = 6.0 * shape_factor(20.0, 20.0, 5.0) * eps / (1.0 - eps) ** 2
+    lam = 1.0 - eps
+    shear = (gamma**2 / 2.0) / (SHEAR_SECANT_BAND[1] - 1.0) - 1.0
+    uniaxial = (1.0 - (lam**-3 - lam**3) / (2.0 * (lam**-2 - lam))) / (1.0 - UNIAXIAL_RATIO_BAND[0]) - 1.0
+    np.testing.assert_allclose(margin, np.maximum(shear, uniaxial), rtol=1e-9)
+    assert margin[0] < 0.0 < margin[2] and shear[2] > uniaxial[2]
+
+
+def test_pad_law_band_leaves_linear_and_catalogue_laws_alone():
+    from springsynth.model.materials import catalogue
+    p = pad_params(1, length=20.0, width=20.0, thickness=20.0 / 7.0)    # S = 1.75, the largest
+    u = np.array([MODEL_STRAIN_LIMIT * 20.0 / 7.0])
+    nh = rubber(law="neo_hookean", mu_MPa=0.5)
+    assert PAD.validity_margins(p, MaterialArrays.of(nh), u)["law_nonlinearity"][0] == pytest.approx(-1.0, abs=1e-12)
+    mr = rubber(law="mooney_rivlin", C10_MPa=0.3, C01_MPa=0.1)
+    assert PAD.validity_margins(p, MaterialArrays.of(mr), u)["law_nonlinearity"][0] < 0.0
+    for m in ("natural_rubber", "silicone", "tpu"):
+        assert PAD.validity_margins(p, MaterialArrays.of(catalogue()[m]), u)["law_nonlinearity"][0] < 0.0
+    # a linear-elastic material has no law: only needs_hyperelastic_law speaks
+    assert PAD.validity_margins(p, MaterialArrays.of(STEEL), u)["law_nonlinearity"][0] == -1.0
