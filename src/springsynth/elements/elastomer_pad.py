@@ -442,8 +442,9 @@ KIND = ElastomerPad(
     forms=("elastomer",),
     validity=(
         f"hyperelastic material with nu >= {NU_MIN:g}; u/t <= min({MODEL_STRAIN_LIMIT:g}, strain_limit); "
-        f"the law's simple-shear secant modulus within {SHEAR_SECANT_BAND[0]:g} ... {SHEAR_SECANT_BAND[1]:g} G up to "
-        "the bonded edge's shear strain 6 S (u/t)/(1 - u/t)^2; "
+        f"over the stroke the law's simple-shear secant modulus within {SHEAR_SECANT_BAND[0]:g} ... "
+        f"{SHEAR_SECANT_BAND[1]:g} G at the bonded edge's shear strain 6 S (u/t)/(1 - u/t)^2 and its uniaxial "
+        f"compressive stress within {UNIAXIAL_RATIO_BAND[0]:g} ... {UNIAXIAL_RATIO_BAND[1]:g} of the neo-Hookean one; "
         f"shape factor S = LW/(2t(L+W)) <= {S_MAX:g}; 1/4 <= L/W <= {ASPECT_MAX:g}; t <= min(L, W)"
     ),
     sources=(
