@@ -185,6 +185,24 @@ def test_within_3_percent_of_every_held_out_law_until_the_bulge_meets_the_plates
     assert np.abs(dev).max() <= 0.03
 
 
+@pytest.mark.xfail(strict=True, reason=(
+    "goal not reached: u/t <= 0.3 within 3 % of the held-out finite elements. The kernel's form refitted to "
+    "u/t <= 0.3 stays 3.7-5.8 % off held-out cases (see springsynth.elements.elastomer_pad, Notes), so the "
+    "declared range stays u/t <= 0.15; with the constants fitted to 0.15 the point-by-point model is far off"))
+def test_goal_held_out_within_3_percent_up_to_u_over_t_0_3():
+    # The model point by point (elastomer_pad.nominal_stress, no strain clamp) on every held-out row up
+    # to u/t = 0.3 with an extrapolated reference (measured: 43 % off at u/t = 0.3).
+    from springsynth.elements.elastomer_pad import nominal_stress
+    rows = [r for r in _read(HELDOUT) if r["ref"] == "extrapolated" and float(r["strain"]) <= 0.3 + 1e-9]
+    dev = []
+    for r in rows:
+        L, W, t, e = (float(r[k]) for k in ("L_mm", "W_mm", "t_mm", "strain"))
+        sigma = nominal_stress(np.array([[e]]), np.array([L]), np.array([W]), np.array([t]), MaterialArrays.of(_material(r)))
+        dev.append(sigma[0, 0] * L * W / float(r["F_ref_N"]) - 1.0)
+    assert len(rows) >= 200
+    assert np.abs(dev).max() <= 0.03
+
+
 @pytest.mark.slow
 def test_held_out_case_resolves_and_kernel_agrees():
     # One held-out case solved here (the two-term Ogden law the catalogue does not have, square
