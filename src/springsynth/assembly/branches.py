@@ -26,7 +26,7 @@ _CHUNK_ROWS = 2048
 
 @dataclass
 class _Rows:
-    """One result per (slot, design) row in kind order; the validity margins of each block as computed."""
+    """One result per flat (slot, design) row ``j * n + i``; the validity margins of each block as computed."""
 
     f: np.ndarray
     sr_curve: np.ndarray | None
@@ -47,13 +47,15 @@ class _Rows:
         return cls(np.empty((N, m)), np.empty((N, m)) if detail else None, np.empty((N, m)) if detail else None,
                    e(), e(), e(), e(), e(), e(), np.empty(N, dtype=bool), [], [[] for _ in range(K)])
 
-    def clear(self, blk: slice) -> None:
-        """Rows holding no element: nothing, inside every model."""
+    def clear(self, rows: np.ndarray) -> None:
+        """Rows holding no element (flat ``rows``): nothing, inside every model."""
+        if rows.size == 0:
+            return
         for arr in (self.f, self.sr_curve, self.u, self.peak, self.along, self.w, self.h, self.mass):
             if arr is not None:
-                arr[blk] = 0.0
-        self.thin[blk] = np.inf
-        self.ok[blk] = True
+                arr[rows] = 0.0
+        self.thin[rows] = np.inf
+        self.ok[rows] = True
 
     def add_margins(self, ki: int, margins: dict, rows: np.ndarray, ok: np.ndarray) -> None:
         """Margins of kind ``ki`` at the flat ``rows``, kept for :meth:`validity`; a non-finite one clears ``ok``
@@ -106,25 +108,52 @@ def add_branches(ctx: Context, tot: Totals, skip: np.ndarray | None) -> None:
     K = len(sl.kinds)
     order, edges, per_slot = _kind_order(ctx, skip)
     rb = _Rows.empty(order.size, ctx.x.size, K, ctx.detail)
-    rb.clear(slice(0, edges[1]))
+    rb.clear(order[:edges[1]])
     for ki in range(K):
         for c in range(edges[ki + 1], edges[ki + 2], _KIND_ROWS):
-            blk = slice(c, min(c + _KIND_ROWS, edges[ki + 2]))
-            _kind_block(ctx, rb, ki, blk, order[blk])
+            _kind_block(ctx, rb, ki, order[c:min(c + _KIND_ROWS, edges[ki + 2])])
     # margins in the order the rules first appear slot by slot, then kind by kind
     names: dict = {}
     for j in range(sl.n_slots):
         for ki in np.flatnonzero(per_slot[j, 1:]):
             names.update(dict.fromkeys(rb.names[ki]))
     tot.validity.update(rb.validity(list(names), sl.n_slots, sl.n))
-    _gather(ctx, tot, rb, order)
+    _gather(ctx, tot, rb)
 
 
-def _kind_block(ctx: Context, rb: _Rows, ki: int, blk: slice, rows: np.ndarray) -> None:
-    """Kind ``ki``'s flat rows ``rows`` (block ``blk`` of ``rb``): force of all copies, peak stress ratio,
-    box, mass, margins."""
+def _element_stroke(ctx: Context, off: np.ndarray) -> tuple[np.ndarray, int]:
+    """Each row's own stroke ``max(x - off, 0)``, shape (r, m), and how many leading columns can be at rest
+    (with x sorted, only the first E: those up to the largest offset)."""
+    x = ctx.x
+    u = np.subtract(x, off[:, None])
+    E = int(np.searchsorted(x, off.max(), side="right")) if ctx.x_sorted and off.size else x.size
+    if E:
+        np.maximum(u[:, :E], 0.0, out=u[:, :E])
+    return u, E
+
+
+def _zero_at_rest(f: np.ndarray, u: np.ndarray, E: int, x_sorted: bool) -> None:
+    """Force zero where the element is not engaged (``u <= 0``), in the first ``E`` columns of ``f``.
+
+    With x sorted, a row is at rest at all only if its first stroke is 0, and there the
+    kernel gave its force at rest, ``f(0)``: rows whose ``f(0)`` is zero already need
+    nothing (most kinds have no force at rest), so only the others are masked.
+    """
+    if not E:
+        return
+    if x_sorted:
+        rows = np.flatnonzero((u[:, 0] <= 0.0) & (f[:, 0] != 0.0))
+        if rows.size == 0:
+            return
+        f[rows, :E] *= u[rows, :E] > 0.0
+    else:
+        f[:, :E] *= u[:, :E] > 0.0
+
+
+def _kind_block(ctx: Context, rb: _Rows, ki: int, rows: np.ndarray) -> None:
+    """Kind ``ki``'s flat rows ``rows`` (ascending): force of all copies, peak stress ratio, box, mass, margins."""
     kind = ctx.slots.kinds[ki]
-    x, x_max = ctx.x, ctx.x_max
+    x_max = ctx.x_max
     pk, sane = ctx.in_domain(ki, ctx.params_f[:len(kind.params), rows], ctx.sane_f[rows])
     off = ctx.offset_f[rows]
     cnt = ctx.count_f[rows]
@@ -135,15 +164,10 @@ def _kind_block(ctx: Context, rb: _Rows, ki: int, blk: slice, rows: np.ndarray) 
     p = {q.name: pk[c] for c, q in enumerate(kind.params)}
     mat = ctx.mats_all.rows(ctx.material_f[rows])
     with np.errstate(all="ignore"):
-        u = np.subtract(x, off[:, None])
-        # the element's own stroke, clipped at engagement: only the first E columns can be (x sorted)
-        E = int(np.searchsorted(x, off.max(), side="right")) if ctx.x_sorted and off.size else x.size
-        if E:
-            np.maximum(u[:, :E], 0.0, out=u[:, :E])
+        u, E = _element_stroke(ctx, off)
         f = kind.force(p, mat, u)
-        if E:
-            f[:, :E] *= u[:, :E] > 0.0
-        f = np.multiply(f, cnt[:, None], out=rb.f[blk])
+        _zero_at_rest(f, u, E, ctx.x_sorted)
+        f *= cnt[:, None]
         peak = peak_ratio(kind, p, mat, u_max)
         margins = kind.validity_margins(p, mat, u_max)
         a, c1, c2 = kind.box(p, u_max)
@@ -152,38 +176,38 @@ def _kind_block(ctx: Context, rb: _Rows, ki: int, blk: slice, rows: np.ndarray) 
         ok = np.isfinite(f.sum(axis=1) + peak + a + c1 + c2 + ms) & sane
         if ctx.detail:
             s = kind.stress(p, mat, u) / kind.allowable(p, mat)[:, None]
-            rb.sr_curve[blk] = np.where(u > 0.0, s, 0.0)
-            rb.u[blk] = u
+            rb.sr_curve[rows] = np.where(u > 0.0, s, 0.0)
+            rb.u[rows] = u
     rb.add_margins(ki, margins, rows, ok)
-    rb.ok[blk] = ok
-    rb.peak[blk] = peak
-    rb.along[blk] = a
-    np.minimum(c1, c2, out=rb.w[blk])
-    rb.w[blk] *= cnt
-    np.maximum(c1, c2, out=rb.h[blk])
-    rb.mass[blk] = ms
-    thin = rb.thin[blk]
-    thin[:] = np.inf
+    rb.f[rows] = f
+    rb.ok[rows] = ok
+    rb.peak[rows] = peak
+    rb.along[rows] = a
+    rb.w[rows] = np.minimum(c1, c2) * cnt
+    rb.h[rows] = np.maximum(c1, c2)
+    rb.mass[rows] = ms
+    thin = np.full(rows.size, np.inf)
     for name in ctx.thick(ki):
         np.minimum(thin, p[name], out=thin)
+    rb.thin[rows] = thin
 
 
-def _gather(ctx: Context, tot: Totals, rb: _Rows, order: np.ndarray) -> None:
-    """The rows' results (kind order) back to design order, slot after slot into the totals."""
-    n = ctx.slots.n
+def _gather(ctx: Context, tot: Totals, rb: _Rows) -> None:
+    """The rows' results (flat (slot, design) order) into the totals, slot after slot."""
+    n, S = ctx.slots.n, ctx.slots.n_slots
     if not rb.ok.all():
         rb.f[~rb.ok] = 0.0
-    back = np.empty(order.size, dtype=np.intp)
-    back[order] = np.arange(order.size)      # where each (slot, design) row sits in `order`
-    for j in range(ctx.slots.n_slots):
-        bj = back[j * n:(j + 1) * n]
-        if j == 0:
-            np.take(rb.f, bj, axis=0, out=tot.force, mode="clip")
-        else:   # in chunks of rows: no second full-size temporary
-            for c in range(0, n, _CHUNK_ROWS):
-                tot.force[c:c + _CHUNK_ROWS] += np.take(rb.f, bj[c:c + _CHUNK_ROWS], axis=0, mode="clip")
+    F = rb.f.reshape(S, n, -1)
+    if S == 1:
+        np.copyto(tot.force, F[0])
+    elif S > 1:
+        np.add(F[0], F[1], out=tot.force)
+        for j in range(2, S):
+            tot.force += F[j]
+    for j in range(S):
+        bj = slice(j * n, (j + 1) * n)
         if ctx.detail:
-            tot.elem_force[:, j] = rb.f[bj]
+            tot.elem_force[:, j] = F[j]
             tot.elem_stroke[:, j] = rb.u[bj]
             tot.elem_sr[:, j] = rb.sr_curve[bj]
             np.maximum(tot.sr_curve, rb.sr_curve[bj], out=tot.sr_curve)
