@@ -234,7 +234,7 @@ def pressure_factor(x2, r):
     end = np.zeros(np.broadcast(x2, r).shape)
     for n in _N_ODD:
         kap = np.sqrt((n * np.pi / 2.0) ** 2 + x2)
-        end += np.tanh(kap * r) / (n * n * kap**3)
+        end += np.tanh(kap * r) / (n * n * (kap * kap * kap))
     return strip - end * (8.0 / np.pi**2) / r
 
 
@@ -360,7 +360,7 @@ def layer_stress(eps, L, W, t, mat):
     chi = ogden_shear_secant(eps / (lam * lam) * (SHEAR_STRAIN_FACTOR * b / t)[:, None], mat.ogden_mu, mat.ogden_alpha)
     q = chi * il2 / np.where(G > 0.0, G, 1.0)[:, None]
     phi = pressure_factor(x2[:, None] * q * b_r * b_r, a_r / b_r)   # x^2 = 12 G b_r^2/(K t^2)
-    return (12.0 * G / (t * t) / (a_e * b_e))[:, None] * b_r**3 * a_r * eps * q * phi
+    return (12.0 * G / (t * t) / (a_e * b_e))[:, None] * (b_r * b_r * b_r) * a_r * eps * q * phi
 
 
 def nominal_stress(eps, L, W, t, mat):
@@ -384,15 +384,19 @@ class ElastomerPad(ElementKind):
         nodes = np.broadcast_to(np.array(EPS_NODES), (L.size, N_NODES))
         secant = nominal_stress(nodes, L, W, t, mat) / nodes
         c = _TO_MONOMIAL @ secant.T                       # (N_NODES, n), constant term first
-        eps = u * (1.0 / t)[:, None]
-        e = np.minimum(eps, MODEL_STRAIN_LIMIT)
-        sigma = e * c[-1][:, None]
-        for ck in c[-2:0:-1]:
-            sigma += ck[:, None]
-            sigma *= e
-        sigma += c[0][:, None]
-        sigma *= eps
-        sigma *= (L * W)[:, None]
+        # F = L W eps sum_k c_k e^k with eps = u/t, e = min(eps, MODEL_STRAIN_LIMIT); with v = t e =
+        # min(u, MODEL_STRAIN_LIMIT t), F = u sum_k g_k v^k, g_k = L W c_k / t^(k+1) (per design)
+        inv_t = 1.0 / t
+        g = c * (L * W * inv_t)
+        for k in range(1, N_NODES):
+            g[k:] *= inv_t
+        v = np.minimum(u, (MODEL_STRAIN_LIMIT * t)[:, None])
+        sigma = v * g[-1][:, None]
+        for gk in g[-2:0:-1]:
+            sigma += gk[:, None]
+            sigma *= v
+        sigma += g[0][:, None]
+        sigma *= u
         return sigma
 
     def stress(self, p, mat, u):
