@@ -121,6 +121,7 @@ class Context:
     x_max: float
     detail: bool
     x_sorted: bool           # x ascending (its points beyond an element's offset form a tail)
+    x_ones: np.ndarray       # (2, m): x over a row of ones
     mats_all: MaterialArrays
     domains: list
     params_f: np.ndarray     # (P, S * n)
@@ -139,7 +140,7 @@ class Context:
             slot_sane = np.isfinite(count_t) & (np.abs(x_max - offset_t) <= _MAX_STROKE_MM)
         params_f = np.ascontiguousarray(slots.params.transpose(2, 1, 0)).reshape(slots.params.shape[2], S * n)
         x_sorted = bool(np.all(x[1:] >= x[:-1]))      # False when x holds NaN
-        return cls(slots, x, x_max, detail, x_sorted, MaterialArrays.table(slots.materials),
+        return cls(slots, x, x_max, detail, x_sorted, np.vstack([x, np.ones_like(x)]), MaterialArrays.table(slots.materials),
                    [_domain(k) for k in slots.kinds], params_f, np.ascontiguousarray(slots.material.T).reshape(-1),
                    count_t.reshape(-1), offset_t.reshape(-1), slot_sane, slot_sane.reshape(-1))
 

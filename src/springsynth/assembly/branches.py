@@ -125,7 +125,12 @@ def _element_stroke(ctx: Context, off: np.ndarray) -> tuple[np.ndarray, int]:
     """Each row's own stroke ``max(x - off, 0)``, shape (r, m), and how many leading columns can be at rest
     (with x sorted, only the first E: those up to the largest offset)."""
     x = ctx.x
-    u = np.subtract(x, off[:, None])
+    # x - off as the product of (r, 2) and (2, m) matrices: exact (each element is 1 x + (-off) 1, one
+    # rounding), and several times faster than a broadcast subtraction over short rows
+    a = np.empty((off.size, 2))
+    a[:, 0] = 1.0
+    np.negative(off, out=a[:, 1])
+    u = np.matmul(a, ctx.x_ones)
     E = int(np.searchsorted(x, off.max(), side="right")) if ctx.x_sorted and off.size else x.size
     if E:
         np.maximum(u[:, :E], 0.0, out=u[:, :E])
