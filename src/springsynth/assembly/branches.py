@@ -26,8 +26,14 @@ _CHUNK_ROWS = 2048
 
 @dataclass
 class _Rows:
-    """One result per flat (slot, design) row ``j * n + i``; the validity margins of each block as computed."""
+    """One result per flat (slot, design) row ``j * n + i``; the validity margins of each block as computed.
 
+    The forces of slot 0 go straight into the designs' total ``f0`` (n, m), those of the other
+    slots into ``f`` ((S - 1) n, m), added to the total slot after slot at the end.
+    """
+
+    n: int
+    f0: np.ndarray
     f: np.ndarray
     sr_curve: np.ndarray | None
     u: np.ndarray | None
@@ -42,16 +48,28 @@ class _Rows:
     names: list             # each kind's margin names, in the order it returns them
 
     @classmethod
-    def empty(cls, N: int, m: int, K: int, detail: bool) -> "_Rows":
+    def empty(cls, total: np.ndarray, S: int, K: int, detail: bool) -> "_Rows":
+        n, m = total.shape
+        N = S * n
         e = lambda: np.empty(N)  # noqa: E731
-        return cls(np.empty((N, m)), np.empty((N, m)) if detail else None, np.empty((N, m)) if detail else None,
+        per_point = (lambda: np.empty((N, m))) if detail else (lambda: None)  # noqa: E731
+        return cls(n, total, np.empty((N - n, m)), per_point(), per_point(),
                    e(), e(), e(), e(), e(), e(), np.empty(N, dtype=bool), [], [[] for _ in range(K)])
+
+    def put_forces(self, rows: np.ndarray, f: np.ndarray) -> None:
+        """Forces ``f`` (r, m) of the flat ``rows`` (ascending): slot 0 into the total, the others kept."""
+        k = int(np.searchsorted(rows, self.n))
+        if k:
+            self.f0[rows[:k]] = f[:k]
+        if k < rows.size:
+            self.f[rows[k:] - self.n] = f[k:]
 
     def clear(self, rows: np.ndarray) -> None:
         """Rows holding no element (flat ``rows``): nothing, inside every model."""
         if rows.size == 0:
             return
-        for arr in (self.f, self.sr_curve, self.u, self.peak, self.along, self.w, self.h, self.mass):
+        self.put_forces(rows, np.zeros((rows.size, self.f0.shape[1])))
+        for arr in (self.sr_curve, self.u, self.peak, self.along, self.w, self.h, self.mass):
             if arr is not None:
                 arr[rows] = 0.0
         self.thin[rows] = np.inf
@@ -107,7 +125,7 @@ def add_branches(ctx: Context, tot: Totals, skip: np.ndarray | None) -> None:
     sl = ctx.slots
     K = len(sl.kinds)
     order, edges, per_slot = _kind_order(ctx, skip)
-    rb = _Rows.empty(order.size, ctx.x.size, K, ctx.detail)
+    rb = _Rows.empty(tot.force, sl.n_slots, K, ctx.detail)
     rb.clear(order[:edges[1]])
     for ki in range(K):
         for c in range(edges[ki + 1], edges[ki + 2], _KIND_ROWS):
@@ -184,7 +202,9 @@ def _kind_block(ctx: Context, rb: _Rows, ki: int, rows: np.ndarray) -> None:
             rb.sr_curve[rows] = np.where(u > 0.0, s, 0.0)
             rb.u[rows] = u
     rb.add_margins(ki, margins, rows, ok)
-    rb.f[rows] = f
+    if not ok.all():
+        f[~ok] = 0.0
+    rb.put_forces(rows, f)
     rb.ok[rows] = ok
     rb.peak[rows] = peak
     rb.along[rows] = a
@@ -200,19 +220,12 @@ def _kind_block(ctx: Context, rb: _Rows, ki: int, rows: np.ndarray) -> None:
 def _gather(ctx: Context, tot: Totals, rb: _Rows) -> None:
     """The rows' results (flat (slot, design) order) into the totals, slot after slot."""
     n, S = ctx.slots.n, ctx.slots.n_slots
-    if not rb.ok.all():
-        rb.f[~rb.ok] = 0.0
-    F = rb.f.reshape(S, n, -1)
-    if S == 1:
-        np.copyto(tot.force, F[0])
-    elif S > 1:
-        np.add(F[0], F[1], out=tot.force)
-        for j in range(2, S):
-            tot.force += F[j]
     for j in range(S):
         bj = slice(j * n, (j + 1) * n)
+        if j:
+            tot.force += rb.f[bj.start - n:bj.stop - n]
         if ctx.detail:
-            tot.elem_force[:, j] = F[j]
+            tot.elem_force[:, j] = rb.f[bj.start - n:bj.stop - n] if j else tot.force
             tot.elem_stroke[:, j] = rb.u[bj]
             tot.elem_sr[:, j] = rb.sr_curve[bj]
             np.maximum(tot.sr_curve, rb.sr_curve[bj], out=tot.sr_curve)
