@@ -154,6 +154,8 @@ def ogden_uniaxial_nominal(lam: np.ndarray, mu: np.ndarray, alpha: np.ndarray, o
     Works in place on two work arrays (large temporaries cost more than the arithmetic).
     """
     shape = np.broadcast_shapes(lam.shape, mu.shape[:1] + (1,))
+    if lam.shape == shape and mu.shape[0] and (mu == mu[:1]).all() and (alpha == alpha[:1]).all():
+        return _ogden_one_law(lam, mu[0], alpha[0], np.empty(shape) if out is None else out)
     log_lam = np.log(lam)
     if log_lam.shape != shape:
         log_lam = np.broadcast_to(log_lam, shape).copy()
@@ -181,3 +183,56 @@ def ogden_uniaxial_nominal(lam: np.ndarray, mu: np.ndarray, alpha: np.ndarray, o
         out[...] = 0.0
     return out
 
+
+
+#: largest whole exponent taken by repeated multiplication in :func:`_ogden_one_law`
+_MAX_WHOLE_POWER = 6
+
+
+def _ogden_one_law(lam: np.ndarray, mu: np.ndarray, alpha: np.ndarray, out: np.ndarray) -> np.ndarray:
+    """:func:`ogden_uniaxial_nominal` when every row has the same law (``mu``, ``alpha`` shape (k,)).
+
+    The exponents are then scalars: whole ones (neo-Hookean and Mooney-Rivlin terms have
+    alpha = +-2, giving lam, lam^-2, lam^-3 and 1) are taken by multiplication, the others
+    as ``exp(e ln lam)``; the same sum, equal to the general path within round-off.
+    """
+    if np.shares_memory(out, lam):
+        lam = lam.copy()
+    powers: dict[float, np.ndarray] = {}
+    recip = None
+    log_lam = None
+
+    def power(e: float) -> np.ndarray | float:
+        nonlocal recip, log_lam
+        if e == 0.0:
+            return 1.0
+        if e in powers:
+            return powers[e]
+        if e == round(e) and abs(e) <= _MAX_WHOLE_POWER:
+            if e < 0 and recip is None:
+                recip = np.divide(1.0, lam)
+            base = lam if e > 0 else recip
+            v = base
+            for _ in range(int(abs(e)) - 1):
+                v = v * base
+        else:
+            if log_lam is None:
+                log_lam = np.log(lam)
+            v = np.multiply(log_lam, e)
+            np.exp(v, out=v)
+        powers[e] = v
+        return v
+
+    first = True
+    for m, a in zip(mu.tolist(), alpha.tolist()):
+        if m == 0.0:                # padding term
+            continue
+        if first:                   # the first term is written, not added to zeros
+            np.multiply(power(a - 1.0), m, out=out)
+            first = False
+        else:
+            out += np.multiply(power(a - 1.0), m)
+        out -= np.multiply(power(-0.5 * a - 1.0), m)
+    if first:                       # no term at all
+        out[...] = 0.0
+    return out

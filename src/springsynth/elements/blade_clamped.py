@@ -480,30 +480,43 @@ class BladeClamped(ElementKind):
         ``key`` is a key of :func:`hyperelastic_solution` or ``"stress"``. Evaluated in
         blocks of about _BLOCK_POINTS points (whole rows, vectorised within a block): the
         chord model needs a few dozen full-size temporaries, which cost more than their
-        arithmetic once they fall out of the cache.
+        arithmetic once they fall out of the cache. The rows go material law by material law,
+        so that within a block the law's exponents are scalars (:func:`ogden_uniaxial_nominal`).
         """
+        law = np.hstack([mat.ogden_mu[rows], mat.ogden_alpha[rows]])
+        order = np.lexsort(law.T[::-1])
+        rows, law = rows[order], law[order]
         L, t = p["length_mm"][rows], p["thickness_mm"][rows]
         E, mu, al = mat.E[rows], mat.ogden_mu[rows], mat.ogden_alpha[rows]
+        u = u[order]
         out = np.empty(u.shape)
         step = max(1, _BLOCK_POINTS // max(u.shape[1], 1))
-        for i in range(0, u.shape[0], step):
-            j = slice(i, i + step)
-            sol = hyperelastic_solution(L[j], t[j], E[j], mu[j], al[j], u[j])
-            if key != "stress":
-                out[j] = sol[key]
-                continue
-            s = E[j, None] * sol["eps_b"]
-            s += sol["lam"] * sol["P"]               # bending + true axial stress (moderate rotation)
-            w = sol["w"]
-            if w.any():                              # the law's nominal stress at the peak fibre
-                fibre = sol["fibre"]
-                fibre += 1.0
-                fibre = ogden_uniaxial_nominal(fibre, mu[j], al[j], out=fibre)
-                fibre -= s
-                fibre *= w
-                s += fibre
-            out[j] = s
-        return out
+        ends = np.r_[np.flatnonzero((law[1:] != law[:-1]).any(axis=1)) + 1, rows.size]
+        for start, stop in zip(np.r_[0, ends[:-1]], ends):
+            for i in range(start, stop, step):
+                j = slice(i, min(i + step, stop))
+                out[j] = BladeClamped._hyper_block(L[j], t[j], E[j], mu[j], al[j], u[j], key)
+        back = np.empty_like(out)
+        back[order] = out
+        return back
+
+    @staticmethod
+    def _hyper_block(L, t, E, mu, al, u, key):
+        """:meth:`_hyper` for one block of rows of one law (arrays as there), shape (k, m)."""
+        sol = hyperelastic_solution(L, t, E, mu, al, u)
+        if key != "stress":
+            return sol[key]
+        s = E[:, None] * sol["eps_b"]
+        s += sol["lam"] * sol["P"]               # bending + true axial stress (moderate rotation)
+        w = sol["w"]
+        if w.any():                              # the law's nominal stress at the peak fibre
+            fibre = sol["fibre"]
+            fibre += 1.0
+            fibre = ogden_uniaxial_nominal(fibre, mu, al, out=fibre)
+            fibre -= s
+            fibre *= w
+            s += fibre
+        return s
 
     @staticmethod
     def _table_curve(key, u, t, coef, times_u):
