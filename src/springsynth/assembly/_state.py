@@ -122,6 +122,7 @@ class Context:
     detail: bool
     x_sorted: bool           # x ascending (its points beyond an element's offset form a tail)
     x_ones: np.ndarray       # (2, m): x over a row of ones
+    ones_m: np.ndarray       # (m,) ones
     mats_all: MaterialArrays
     domains: list
     params_f: np.ndarray     # (P, S * n)
@@ -140,7 +141,7 @@ class Context:
             slot_sane = np.isfinite(count_t) & (np.abs(x_max - offset_t) <= _MAX_STROKE_MM)
         params_f = np.ascontiguousarray(slots.params.transpose(2, 1, 0)).reshape(slots.params.shape[2], S * n)
         x_sorted = bool(np.all(x[1:] >= x[:-1]))      # False when x holds NaN
-        return cls(slots, x, x_max, detail, x_sorted, np.vstack([x, np.ones_like(x)]), MaterialArrays.table(slots.materials),
+        return cls(slots, x, x_max, detail, x_sorted, np.vstack([x, np.ones_like(x)]), np.ones_like(x), MaterialArrays.table(slots.materials),
                    [_domain(k) for k in slots.kinds], params_f, np.ascontiguousarray(slots.material.T).reshape(-1),
                    count_t.reshape(-1), offset_t.reshape(-1), slot_sane, slot_sane.reshape(-1))
 
@@ -210,7 +211,7 @@ class Totals:
         with np.errstate(all="ignore"):
             size = self.along * self.stack_w * self.stack_h
             # sums over slots can overflow even when every element's values are finite
-            finite &= np.isfinite(self.force.sum(axis=1) + size + self.mass)
+            finite &= np.isfinite(self.force @ np.ones(self.force.shape[1]) + size + self.mass)
         return Response(
             x_mm=x, force_N=self.force, element_force_N=self.elem_force,
             stress_ratio=np.where(finite, self.sr, np.inf), stress_ratio_curve=self.sr_curve, box_mm=box,

@@ -195,8 +195,8 @@ def _kind_block(ctx: Context, rb: _Rows, ki: int, rows: np.ndarray) -> None:
         margins = kind.validity_margins(p, mat, u_max)
         a, c1, c2 = kind.box(p, u_max)
         ms = kind.mass(p, mat, u_max) * cnt
-        # one reduction finds any NaN or inf in a row (a sum with one is not finite)
-        ok = np.isfinite(f.sum(axis=1) + peak + a + c1 + c2 + ms) & sane
+        # one product with ones finds any NaN or inf in a row (a sum with one is not finite)
+        ok = np.isfinite(f @ ctx.ones_m + peak + a + c1 + c2 + ms) & sane
         if ctx.detail:
             s = kind.stress(p, mat, u) / kind.allowable(p, mat)[:, None]
             rb.sr_curve[rows] = np.where(u > 0.0, s, 0.0)
