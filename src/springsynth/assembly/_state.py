@@ -211,7 +211,7 @@ class Totals:
         with np.errstate(all="ignore"):
             size = self.along * self.stack_w * self.stack_h
             # sums over slots can overflow even when every element's values are finite
-            finite &= np.isfinite(self.force @ np.ones(self.force.shape[1]) + size + self.mass)
+            finite &= np.isfinite(self.force.sum(axis=1) + size + self.mass)
         return Response(
             x_mm=x, force_N=self.force, element_force_N=self.elem_force,
             stress_ratio=np.where(finite, self.sr, np.inf), stress_ratio_curve=self.sr_curve, box_mm=box,

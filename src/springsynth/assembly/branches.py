@@ -20,8 +20,9 @@ __all__ = ["add_branches"]
 
 #: rows per kernel call (a kind's rows beyond it go in further calls; the temporaries stay small)
 _KIND_ROWS = 4096
-#: rows per chunk when adding a slot's forces to the total (keeps the temporary small)
-_CHUNK_ROWS = 2048
+#: rows per matrix product: small enough that the BLAS library runs it on one thread (a product spread
+#: over threads costs more than it saves at these sizes, and much more when the process has one core)
+_BLAS_ROWS = 1024
 
 
 @dataclass
@@ -148,11 +149,21 @@ def _element_stroke(ctx: Context, off: np.ndarray) -> tuple[np.ndarray, int]:
     a = np.empty((off.size, 2))
     a[:, 0] = 1.0
     np.negative(off, out=a[:, 1])
-    u = np.matmul(a, ctx.x_ones)
+    u = np.empty((off.size, x.size))
+    for c in range(0, off.size, _BLAS_ROWS):
+        np.matmul(a[c:c + _BLAS_ROWS], ctx.x_ones, out=u[c:c + _BLAS_ROWS])
     E = int(np.searchsorted(x, off.max(), side="right")) if ctx.x_sorted and off.size else x.size
     if E:
         np.maximum(u[:, :E], 0.0, out=u[:, :E])
     return u, E
+
+
+def _row_sums(f: np.ndarray, ones: np.ndarray) -> np.ndarray:
+    """``f @ ones``, shape (r,), in products of at most _BLAS_ROWS rows (one thread each)."""
+    out = np.empty(f.shape[0])
+    for c in range(0, f.shape[0], _BLAS_ROWS):
+        np.matmul(f[c:c + _BLAS_ROWS], ones, out=out[c:c + _BLAS_ROWS])
+    return out
 
 
 def _zero_at_rest(f: np.ndarray, u: np.ndarray, E: int, x_sorted: bool) -> None:
@@ -196,7 +207,7 @@ def _kind_block(ctx: Context, rb: _Rows, ki: int, rows: np.ndarray) -> None:
         a, c1, c2 = kind.box(p, u_max)
         ms = kind.mass(p, mat, u_max) * cnt
         # one product with ones finds any NaN or inf in a row (a sum with one is not finite)
-        ok = np.isfinite(f @ ctx.ones_m + peak + a + c1 + c2 + ms) & sane
+        ok = np.isfinite(_row_sums(f, ctx.ones_m) + peak + a + c1 + c2 + ms) & sane
         if ctx.detail:
             s = kind.stress(p, mat, u) / kind.allowable(p, mat)[:, None]
             rb.sr_curve[rows] = np.where(u > 0.0, s, 0.0)
