@@ -144,6 +144,8 @@ HYPER_ROTATION_LIMIT = 0.6
 _HYPER_PASSES = 2
 #: Points per block of the kernels (keeps their temporaries small and in cache).
 _BLOCK_POINTS = 32768
+#: Points per row from which the hyperelastic rows go law by law (fewer: one block, mixed laws).
+_LAW_GROUP_POINTS = 16
 #: Below this b the chord functions take their b -> 0 limits (error ~ b^2/15 < 1e-5).
 _B_MIN = 0.01
 
@@ -480,25 +482,33 @@ class BladeClamped(ElementKind):
         ``key`` is a key of :func:`hyperelastic_solution` or ``"stress"``. Evaluated in
         blocks of about _BLOCK_POINTS points (whole rows, vectorised within a block): the
         chord model needs a few dozen full-size temporaries, which cost more than their
-        arithmetic once they fall out of the cache. The rows go material law by material law,
-        so that within a block the law's exponents are scalars (:func:`ogden_uniaxial_nominal`).
+        arithmetic once they fall out of the cache. With many points per row the rows go material
+        law by material law, so that within a block the law's exponents are scalars
+        (:func:`ogden_uniaxial_nominal`).
         """
+        if u.shape[1] < _LAW_GROUP_POINTS:          # a few points per row: one pass, mixed laws
+            return BladeClamped._hyper_rows(p, mat, rows, u, key)
         law = np.hstack([mat.ogden_mu[rows], mat.ogden_alpha[rows]])
         order = np.lexsort(law.T[::-1])
-        rows, law = rows[order], law[order]
+        law = law[order]
+        ends = np.r_[np.flatnonzero((law[1:] != law[:-1]).any(axis=1)) + 1, rows.size]
+        out = np.empty(u.shape)
+        for start, stop in zip(np.r_[0, ends[:-1]], ends):
+            sel = order[start:stop]
+            out[sel] = BladeClamped._hyper_rows(p, mat, rows[sel], u[sel], key)
+        return out
+
+    @staticmethod
+    def _hyper_rows(p, mat, rows, u, key):
+        """:meth:`_hyper` for the ``rows`` in blocks, whatever their laws."""
         L, t = p["length_mm"][rows], p["thickness_mm"][rows]
         E, mu, al = mat.E[rows], mat.ogden_mu[rows], mat.ogden_alpha[rows]
-        u = u[order]
         out = np.empty(u.shape)
         step = max(1, _BLOCK_POINTS // max(u.shape[1], 1))
-        ends = np.r_[np.flatnonzero((law[1:] != law[:-1]).any(axis=1)) + 1, rows.size]
-        for start, stop in zip(np.r_[0, ends[:-1]], ends):
-            for i in range(start, stop, step):
-                j = slice(i, min(i + step, stop))
-                out[j] = BladeClamped._hyper_block(L[j], t[j], E[j], mu[j], al[j], u[j], key)
-        back = np.empty_like(out)
-        back[order] = out
-        return back
+        for i in range(0, u.shape[0], step):
+            j = slice(i, i + step)
+            out[j] = BladeClamped._hyper_block(L[j], t[j], E[j], mu[j], al[j], u[j], key)
+        return out
 
     @staticmethod
     def _hyper_block(L, t, E, mu, al, u, key):
