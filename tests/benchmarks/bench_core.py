@@ -5,7 +5,8 @@ materials that suit it, random dimensions inside the bounds, counts, gaps and
 preloads) is evaluated at 64 stroke points through the same function the search
 uses. Prints the median over repeats of designs/s, and the ratio to a plain numpy
 cubic written with multiplications, ``x * (a + b * x * x)``, evaluated on an array of the
-same size (n x 3 x 64) in the same loop; and the cost of one call at 120 designs (what
+same size (n x 3 x 64) in the same loop (also the ratio of the fastest repeats, which other
+processes on a shared machine disturb least); and the cost of one call at 120 designs (what
 the search sees: a generation), the median over repeats of the mean of 20 calls.
 
 ``--per-kind`` also times each kind alone: ``n / 4`` one-element designs of that kind (about
@@ -159,6 +160,8 @@ def mixed(n: int, repeats: int, kinds) -> None:
         call = _median_call(small, x, repeats, 20)
         print(f"{label}: core {1e3 * med:.1f} ms ({n / med:,.0f} designs/s), plain cubic x*(a+b*x*x) "
               f"{1e3 * medc:.1f} ms; ratio of times {med / medc:.1f}; one call at 120 designs {1e3 * call:.2f} ms")
+        print(f"  fastest of the {repeats} (less disturbed by other processes): core {1e3 * min(t_core):.1f} ms, "
+              f"cubic {1e3 * min(t_cubic):.1f} ms, ratio {min(t_core) / min(t_cubic):.1f}")
 
 
 def main() -> None:
