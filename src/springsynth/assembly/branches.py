@@ -2,10 +2,10 @@
 
 The (slot, design) rows of the whole population are sorted by kind (:func:`_kind_order`),
 so each kind's kernels run once per call over all its rows, whatever slots they sit in
-(in blocks of at most ``_KIND_ROWS`` rows, whose temporaries stay small), and write their
-results into one contiguous block of :class:`_Rows`. :func:`_gather` then brings them back
-to design order and combines the slots in slot order, as if slot after slot had been
-added (the sums are the same, bit for bit).
+(in blocks of at most ``_KIND_ROWS`` rows, whose temporaries stay small). Each block writes
+its results straight to their (slot, design) places in :class:`_Rows` (slot 0's forces into
+the designs' total itself); :func:`_gather` then adds the other slots in slot order, as if
+slot after slot had been added (the sums are the same, bit for bit).
 """
 
 from __future__ import annotations
