@@ -58,12 +58,21 @@ class _Rows:
                    e(), e(), e(), e(), e(), e(), np.empty(N, dtype=bool), [], [[] for _ in range(K)])
 
     def put_forces(self, rows: np.ndarray, f: np.ndarray) -> None:
-        """Forces ``f`` (r, m) of the flat ``rows`` (ascending): slot 0 into the total, the others kept."""
+        """Forces ``f`` (r, m) of the flat ``rows`` (ascending): slot 0 into the total, the others kept.
+
+        Each row moves as one record (a view of m floats as one item), which numpy copies
+        faster than m floats one by one.
+        """
+        m = f.shape[1]
+        if m == 0:
+            return
+        rec = np.dtype((np.void, m * f.itemsize))
+        f = np.ascontiguousarray(f).view(rec).reshape(-1)
         k = int(np.searchsorted(rows, self.n))
         if k:
-            self.f0[rows[:k]] = f[:k]
+            self.f0.view(rec).reshape(-1)[rows[:k]] = f[:k]
         if k < rows.size:
-            self.f[rows[k:] - self.n] = f[k:]
+            self.f.view(rec).reshape(-1)[rows[k:] - self.n] = f[k:]
 
     def clear(self, rows: np.ndarray) -> None:
         """Rows holding no element (flat ``rows``): nothing, inside every model."""
@@ -153,9 +162,22 @@ def _element_stroke(ctx: Context, off: np.ndarray) -> tuple[np.ndarray, int]:
     for c in range(0, off.size, _BLAS_ROWS):
         np.matmul(a[c:c + _BLAS_ROWS], ctx.x_ones, out=u[c:c + _BLAS_ROWS])
     E = int(np.searchsorted(x, off.max(), side="right")) if ctx.x_sorted and off.size else x.size
-    if E:
-        np.maximum(u[:, :E], 0.0, out=u[:, :E])
+    if E:   # over whole rows (a no-op past column E): contiguous, and against an array of zeros, it is fastest
+        np.maximum(u, _zeros(off.size, x.size), out=u)
     return u, E
+
+
+#: arrays of zeros by row length, read only (:func:`_zeros`)
+_ZEROS: dict[int, np.ndarray] = {}
+
+
+def _zeros(r: int, m: int) -> np.ndarray:
+    """Zeros, shape (r, m), a view of a cached array (never write to it)."""
+    z = _ZEROS.get(m)
+    if z is None or z.shape[0] < r:
+        z = _ZEROS[m] = np.zeros((max(r, _KIND_ROWS), m))
+        z.flags.writeable = False
+    return z[:r]
 
 
 def _row_sums(f: np.ndarray, ones: np.ndarray) -> np.ndarray:
@@ -200,6 +222,8 @@ def _kind_block(ctx: Context, rb: _Rows, ki: int, rows: np.ndarray) -> None:
     with np.errstate(all="ignore"):
         u, E = _element_stroke(ctx, off)
         f = kind.force(p, mat, u)
+        if f.dtype != np.float64:
+            f = f.astype(np.float64)
         _zero_at_rest(f, u, E, ctx.x_sorted)
         f *= cnt[:, None]
         peak = peak_ratio(kind, p, mat, u_max)
