@@ -157,8 +157,9 @@ class Context:
         marked not finite (``sane`` is updated in place).
         """
         d = self.domains[ki]
-        for inside in (pk >= d.lo) & (pk <= d.hi):      # faster than np.all(axis=0)
-            sane &= inside
+        for row, lo, hi in zip(pk, d.lo[:, 0].tolist(), d.hi[:, 0].tolist()):   # scalar bounds: no broadcasting
+            sane &= row >= lo
+            sane &= row <= hi
         if not sane.all():
             pk = np.where(sane, pk, d.fallback)
         return pk, sane

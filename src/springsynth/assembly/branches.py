@@ -210,7 +210,7 @@ def _kind_block(ctx: Context, rb: _Rows, ki: int, rows: np.ndarray) -> None:
     """Kind ``ki``'s flat rows ``rows`` (ascending): force of all copies, peak stress ratio, box, mass, margins."""
     kind = ctx.slots.kinds[ki]
     x_max = ctx.x_max
-    pk, sane = ctx.in_domain(ki, ctx.params_f[:len(kind.params), rows], ctx.sane_f[rows])
+    pk, sane = ctx.in_domain(ki, np.take(ctx.params_f[:len(kind.params)], rows, axis=1), ctx.sane_f[rows])
     off = ctx.offset_f[rows]
     cnt = ctx.count_f[rows]
     u_max = np.maximum(x_max - off, 0.0)
