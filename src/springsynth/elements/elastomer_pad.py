@@ -381,7 +381,7 @@ class ElastomerPad(ElementKind):
         # Nominal stress = eps x secant modulus; the secant modulus is evaluated exactly at
         # N_NODES strains per design and interpolated by a polynomial in eps (held at its value
         # at the strain limit beyond it, where the design is outside the declared range anyway).
-        nodes = np.broadcast_to(np.array(EPS_NODES), (L.size, N_NODES))
+        nodes = np.array(EPS_NODES)[None, :]               # (1, N_NODES): what depends on the strain alone is done once
         secant = nominal_stress(nodes, L, W, t, mat) / nodes
         c = _TO_MONOMIAL @ secant.T                       # (N_NODES, n), constant term first
         # F = L W eps sum_k c_k e^k with eps = u/t, e = min(eps, MODEL_STRAIN_LIMIT); with v = t e =
