@@ -105,10 +105,16 @@ class _Rows:
     def validity(self, order: list, S: int, n: int) -> dict:
         """Worst margin over the slots of each design for each rule named in ``order``, each shape (n,)."""
         index = {q: c for c, q in enumerate(order)}
-        flat = np.full((len(order), S * n), -np.inf)
+        worst = np.full((len(order), n), -np.inf)
         for names, g, rows in self.margins:
-            flat[np.array([index[q] for q in names])[:, None], rows[None, :]] = g
-        worst = flat.reshape(len(order), S, n).max(axis=1)
+            # rows ascending, slot-major: within one slot's share each design comes once
+            cut = np.searchsorted(rows, np.arange(n, S * n, n))
+            for part, gp in zip(np.split(rows, cut), np.split(g, cut, axis=1)):
+                if part.size:
+                    d = part % n
+                    for c, q in enumerate(names):
+                        w = worst[index[q]]
+                        w[d] = np.maximum(w[d], gp[c])
         return dict(zip(order, worst))
 
 
