@@ -7,6 +7,7 @@ which becomes the :class:`Response`.
 
 from __future__ import annotations
 
+import dataclasses
 from dataclasses import dataclass
 
 import numpy as np
@@ -92,6 +93,7 @@ class _KindDomain:
     hi: np.ndarray
     fallback: np.ndarray
     thick: tuple[str, ...]
+    bounds: tuple[tuple[float, float], ...]    # (lo, hi) of each parameter, as Python floats
 
 
 #: per kind object (by identity; the entry keeps its kind alive, so an id is never reused)
@@ -105,7 +107,8 @@ def _domain(kind) -> _KindDomain:
         d = _DOMAINS[id(kind)] = _KindDomain(
             kind, np.array([q.lo / _DOMAIN if q.lo > 0 and not q.choices else q.lo for q in qs], float)[:, None],
             np.array([q.hi if q.choices else q.hi * _DOMAIN for q in qs], float)[:, None],
-            np.array([q.lo for q in qs], float)[:, None], tuple(q.name for q in qs if q.thickness))
+            np.array([q.lo for q in qs], float)[:, None], tuple(q.name for q in qs if q.thickness), ())
+        d = _DOMAINS[id(kind)] = dataclasses.replace(d, bounds=tuple(zip(d.lo[:, 0].tolist(), d.hi[:, 0].tolist())))
     return d
 
 
@@ -157,7 +160,7 @@ class Context:
         marked not finite (``sane`` is updated in place).
         """
         d = self.domains[ki]
-        for row, lo, hi in zip(pk, d.lo[:, 0].tolist(), d.hi[:, 0].tolist()):   # scalar bounds: no broadcasting
+        for row, (lo, hi) in zip(pk, d.bounds):         # scalar bounds: no broadcasting
             sane &= row >= lo
             sane &= row <= hi
         if not sane.all():

@@ -11,6 +11,7 @@ slot after slot had been added (the sums are the same, bit for bit).
 from __future__ import annotations
 
 from dataclasses import dataclass
+from functools import lru_cache
 
 import numpy as np
 
@@ -20,6 +21,10 @@ __all__ = ["add_branches"]
 
 #: rows per kernel call (a kind's rows beyond it go in further calls; the temporaries stay small)
 _KIND_ROWS = 4096
+#: up to this many points a block takes the ways with the fewest numpy calls (their fixed cost dominates)
+_SMALL_POINTS = 8192
+#: up to this many (rule, slot, design) entries the validity margins go through one array (fewer calls)
+_SMALL_VALIDITY = 2**17
 #: rows per matrix product: small enough that the BLAS library runs it on one thread (a product spread
 #: over threads costs more than it saves at these sizes, and much more when the process has one core)
 _BLAS_ROWS = 1024
@@ -66,7 +71,7 @@ class _Rows:
         m = f.shape[1]
         if m == 0:
             return
-        rec = np.dtype((np.void, m * f.itemsize))
+        rec = _record(m * f.itemsize)
         f = np.ascontiguousarray(f).view(rec).reshape(-1)
         k = int(np.searchsorted(rows, self.n))
         if k:
@@ -105,6 +110,11 @@ class _Rows:
     def validity(self, order: list, S: int, n: int) -> dict:
         """Worst margin over the slots of each design for each rule named in ``order``, each shape (n,)."""
         index = {q: c for c, q in enumerate(order)}
+        if len(order) * S * n <= _SMALL_VALIDITY:      # small: one array of all rows, one maximum over slots
+            flat = np.full((len(order), S * n), -np.inf)
+            for names, g, rows in self.margins:
+                flat[np.array([index[q] for q in names])[:, None], rows[None, :]] = g
+            return dict(zip(order, flat.reshape(len(order), S, n).max(axis=1)))
         worst = np.full((len(order), n), -np.inf)
         for names, g, rows in self.margins:
             # rows ascending, slot-major: within one slot's share each design comes once
@@ -116,6 +126,12 @@ class _Rows:
                         w = worst[index[q]]
                         w[d] = np.maximum(w[d], gp[c])
         return dict(zip(order, worst))
+
+
+@lru_cache(maxsize=8)
+def _record(nbytes: int) -> np.dtype:
+    """A dtype of one opaque item of ``nbytes`` bytes (a row moved as one record)."""
+    return np.dtype((np.void, nbytes))
 
 
 def _kind_order(ctx: Context, skip: np.ndarray | None) -> tuple[np.ndarray, np.ndarray, np.ndarray]:
@@ -159,6 +175,12 @@ def _element_stroke(ctx: Context, off: np.ndarray) -> tuple[np.ndarray, int]:
     """Each row's own stroke ``max(x - off, 0)``, shape (r, m), and how many leading columns can be at rest
     (with x sorted, only the first E: those up to the largest offset)."""
     x = ctx.x
+    E = int(np.searchsorted(x, off.max(), side="right")) if ctx.x_sorted and off.size else x.size
+    if off.size * x.size <= _SMALL_POINTS:      # few points: fewest calls
+        u = np.subtract(x, off[:, None])
+        if E:
+            np.maximum(u[:, :E], 0.0, out=u[:, :E])
+        return u, E
     # x - off as the product of (r, 2) and (2, m) matrices: exact (each element is 1 x + (-off) 1, one
     # rounding), and several times faster than a broadcast subtraction over short rows
     a = np.empty((off.size, 2))
@@ -167,7 +189,6 @@ def _element_stroke(ctx: Context, off: np.ndarray) -> tuple[np.ndarray, int]:
     u = np.empty((off.size, x.size))
     for c in range(0, off.size, _BLAS_ROWS):
         np.matmul(a[c:c + _BLAS_ROWS], ctx.x_ones, out=u[c:c + _BLAS_ROWS])
-    E = int(np.searchsorted(x, off.max(), side="right")) if ctx.x_sorted and off.size else x.size
     if E:   # over whole rows (a no-op past column E): contiguous, and against an array of zeros, it is fastest
         np.maximum(u, _zeros(off.size, x.size), out=u)
     return u, E
@@ -203,7 +224,7 @@ def _zero_at_rest(f: np.ndarray, u: np.ndarray, E: int, x_sorted: bool) -> None:
     """
     if not E:
         return
-    if x_sorted:
+    if x_sorted and f.size > _SMALL_POINTS:
         rows = np.flatnonzero((u[:, 0] <= 0.0) & (f[:, 0] != 0.0))
         if rows.size == 0:
             return

@@ -154,7 +154,7 @@ def ogden_uniaxial_nominal(lam: np.ndarray, mu: np.ndarray, alpha: np.ndarray, o
     Works in place on two work arrays (large temporaries cost more than the arithmetic).
     """
     shape = np.broadcast_shapes(lam.shape, mu.shape[:1] + (1,))
-    if lam.shape == shape and mu.shape[0] and (mu == mu[:1]).all() and (alpha == alpha[:1]).all():
+    if lam.size >= _ONE_LAW_POINTS and lam.shape == shape and (mu == mu[:1]).all() and (alpha == alpha[:1]).all():
         return _ogden_one_law(lam, mu[0], alpha[0], np.empty(shape) if out is None else out)
     log_lam = np.log(lam)
     if log_lam.shape != shape:
@@ -185,6 +185,8 @@ def ogden_uniaxial_nominal(lam: np.ndarray, mu: np.ndarray, alpha: np.ndarray, o
 
 
 
+#: points from which one law's exponents are worth sorting into whole and other ones (:func:`_ogden_one_law`)
+_ONE_LAW_POINTS = 4096
 #: largest whole exponent taken by repeated multiplication in :func:`_ogden_one_law`
 _MAX_WHOLE_POWER = 6
 
