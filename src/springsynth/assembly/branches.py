@@ -32,10 +32,12 @@ _BLAS_ROWS = 1024
 
 @dataclass
 class _Rows:
-    """One result per flat (slot, design) row ``j * n + i``; the validity margins of each block as computed.
+    """One result per (slot, design) row; the validity margins of each block as computed.
 
     The forces of slot 0 go straight into the designs' total ``f0`` (n, m), those of the other
-    slots into ``f`` ((S - 1) n, m), added to the total slot after slot at the end.
+    slots into ``f`` ((S - 1) n, m) at their flat row ``j * n + i`` (as do the detail arrays),
+    added to the total slot after slot at the end. The per-row values (``peak`` to ``ok``) stay
+    in kind order, block after block, and are gathered back by the flat row at the end.
     """
 
     n: int
@@ -69,26 +71,31 @@ class _Rows:
         faster than m floats one by one.
         """
         m = f.shape[1]
-        if m == 0:
+        k = int(rows.searchsorted(self.n))
+        if m == 0 or f.size <= _SMALL_POINTS:
+            self.f0[rows[:k]] = f[:k]
+            self.f[rows[k:] - self.n] = f[k:]
             return
         rec = _record(m * f.itemsize)
         f = np.ascontiguousarray(f).view(rec).reshape(-1)
-        k = int(np.searchsorted(rows, self.n))
         if k:
             self.f0.view(rec).reshape(-1)[rows[:k]] = f[:k]
         if k < rows.size:
             self.f.view(rec).reshape(-1)[rows[k:] - self.n] = f[k:]
 
     def clear(self, rows: np.ndarray) -> None:
-        """Rows holding no element (flat ``rows``): nothing, inside every model."""
+        """Rows holding no element (flat ``rows``, the first of the kind order): nothing, inside every model."""
         if rows.size == 0:
             return
         self.put_forces(rows, np.zeros((rows.size, self.f0.shape[1])))
-        for arr in (self.sr_curve, self.u, self.peak, self.along, self.w, self.h, self.mass):
+        for arr in (self.sr_curve, self.u):
             if arr is not None:
                 arr[rows] = 0.0
-        self.thin[rows] = np.inf
-        self.ok[rows] = True
+        blk = slice(0, rows.size)
+        for arr in (self.peak, self.along, self.w, self.h, self.mass):
+            arr[blk] = 0.0
+        self.thin[blk] = np.inf
+        self.ok[blk] = True
 
     def add_margins(self, ki: int, margins: dict, rows: np.ndarray, ok: np.ndarray) -> None:
         """Margins of kind ``ki`` at the flat ``rows``, kept for :meth:`validity`; a non-finite one clears ``ok``
@@ -161,21 +168,22 @@ def add_branches(ctx: Context, tot: Totals, skip: np.ndarray | None) -> None:
     rb.clear(order[:edges[1]])
     for ki in range(K):
         for c in range(edges[ki + 1], edges[ki + 2], _KIND_ROWS):
-            _kind_block(ctx, rb, ki, order[c:min(c + _KIND_ROWS, edges[ki + 2])])
+            blk = slice(c, min(c + _KIND_ROWS, edges[ki + 2]))
+            _kind_block(ctx, rb, ki, order[blk], blk)
     # margins in the order the rules first appear slot by slot, then kind by kind
     names: dict = {}
     for j in range(sl.n_slots):
         for ki in np.flatnonzero(per_slot[j, 1:]):
             names.update(dict.fromkeys(rb.names[ki]))
     tot.validity.update(rb.validity(list(names), sl.n_slots, sl.n))
-    _gather(ctx, tot, rb)
+    _gather(ctx, tot, rb, order)
 
 
 def _element_stroke(ctx: Context, off: np.ndarray) -> tuple[np.ndarray, int]:
     """Each row's own stroke ``max(x - off, 0)``, shape (r, m), and how many leading columns can be at rest
     (with x sorted, only the first E: those up to the largest offset)."""
     x = ctx.x
-    E = int(np.searchsorted(x, off.max(), side="right")) if ctx.x_sorted and off.size else x.size
+    E = int(x.searchsorted(off.max(), side="right")) if ctx.x_sorted and off.size else x.size
     if off.size * x.size <= _SMALL_POINTS:      # few points: fewest calls
         u = np.subtract(x, off[:, None])
         if E:
@@ -209,6 +217,8 @@ def _zeros(r: int, m: int) -> np.ndarray:
 
 def _row_sums(f: np.ndarray, ones: np.ndarray) -> np.ndarray:
     """``f @ ones``, shape (r,), in products of at most _BLAS_ROWS rows (one thread each)."""
+    if f.shape[0] <= _BLAS_ROWS:
+        return f @ ones
     out = np.empty(f.shape[0])
     for c in range(0, f.shape[0], _BLAS_ROWS):
         np.matmul(f[c:c + _BLAS_ROWS], ones, out=out[c:c + _BLAS_ROWS])
@@ -233,11 +243,12 @@ def _zero_at_rest(f: np.ndarray, u: np.ndarray, E: int, x_sorted: bool) -> None:
         f[:, :E] *= u[:, :E] > 0.0
 
 
-def _kind_block(ctx: Context, rb: _Rows, ki: int, rows: np.ndarray) -> None:
-    """Kind ``ki``'s flat rows ``rows`` (ascending): force of all copies, peak stress ratio, box, mass, margins."""
+def _kind_block(ctx: Context, rb: _Rows, ki: int, rows: np.ndarray, blk: slice) -> None:
+    """Kind ``ki``'s flat rows ``rows`` (ascending; block ``blk`` of the kind order): force of all copies, peak
+    stress ratio, box, mass, margins."""
     kind = ctx.slots.kinds[ki]
     x_max = ctx.x_max
-    pk, sane = ctx.in_domain(ki, np.take(ctx.params_f[:len(kind.params)], rows, axis=1), ctx.sane_f[rows])
+    pk, sane = ctx.in_domain(ki, ctx.params_f[:len(kind.params)].take(rows, axis=1), ctx.sane_f[rows])
     off = ctx.offset_f[rows]
     cnt = ctx.count_f[rows]
     u_max = np.maximum(x_max - off, 0.0)
@@ -267,23 +278,28 @@ def _kind_block(ctx: Context, rb: _Rows, ki: int, rows: np.ndarray) -> None:
     if not ok.all():
         f[~ok] = 0.0
     rb.put_forces(rows, f)
-    rb.ok[rows] = ok
-    rb.peak[rows] = peak
-    rb.along[rows] = a
-    rb.w[rows] = np.minimum(c1, c2) * cnt
-    rb.h[rows] = np.maximum(c1, c2)
-    rb.mass[rows] = ms
-    thin = np.full(rows.size, np.inf)
+    rb.ok[blk] = ok
+    rb.peak[blk] = peak
+    rb.along[blk] = a
+    np.minimum(c1, c2, out=rb.w[blk])
+    rb.w[blk] *= cnt
+    np.maximum(c1, c2, out=rb.h[blk])
+    rb.mass[blk] = ms
+    thin = rb.thin[blk]
+    thin[:] = np.inf
     for name in ctx.thick(ki):
         np.minimum(thin, p[name], out=thin)
-    rb.thin[rows] = thin
 
 
-def _gather(ctx: Context, tot: Totals, rb: _Rows) -> None:
-    """The rows' results (flat (slot, design) order) into the totals, slot after slot."""
+def _gather(ctx: Context, tot: Totals, rb: _Rows, order: np.ndarray) -> None:
+    """The rows' results into the totals, slot after slot: the forces (and the detail) are in (slot, design)
+    order, the per-row values in kind order (``order``), gathered back to design order here."""
     n, S = ctx.slots.n, ctx.slots.n_slots
+    back = np.empty(order.size, dtype=np.intp)
+    back[order] = np.arange(order.size)      # where each (slot, design) row sits in `order`
     for j in range(S):
         bj = slice(j * n, (j + 1) * n)
+        kj = back[bj]
         if j:
             tot.force += rb.f[bj.start - n:bj.stop - n]
         if ctx.detail:
@@ -291,10 +307,10 @@ def _gather(ctx: Context, tot: Totals, rb: _Rows) -> None:
             tot.elem_stroke[:, j] = rb.u[bj]
             tot.elem_sr[:, j] = rb.sr_curve[bj]
             np.maximum(tot.sr_curve, rb.sr_curve[bj], out=tot.sr_curve)
-        tot.finite &= rb.ok[bj]
-        np.maximum(tot.sr, rb.peak[bj], out=tot.sr)
-        np.maximum(tot.along, rb.along[bj], out=tot.along)
-        tot.stack_w += rb.w[bj]
-        np.maximum(tot.stack_h, rb.h[bj], out=tot.stack_h)
-        tot.mass += rb.mass[bj]
-        np.minimum(tot.tmin, rb.thin[bj], out=tot.tmin)
+        tot.finite &= rb.ok[kj]
+        np.maximum(tot.sr, rb.peak[kj], out=tot.sr)
+        np.maximum(tot.along, rb.along[kj], out=tot.along)
+        tot.stack_w += rb.w[kj]
+        np.maximum(tot.stack_h, rb.h[kj], out=tot.stack_h)
+        tot.mass += rb.mass[kj]
+        np.minimum(tot.tmin, rb.thin[kj], out=tot.tmin)

@@ -144,7 +144,8 @@ HYPER_ROTATION_LIMIT = 0.6
 _HYPER_PASSES = 2
 #: Points per block of the kernels (keeps their temporaries small and in cache).
 _BLOCK_POINTS = 32768
-#: Points per row from which the hyperelastic rows go law by law (fewer: one block, mixed laws).
+#: Points per row from which the hyperelastic rows go law by law (fewer, or fewer than _BLOCK_POINTS in
+#: all: one pass, mixed laws; each pass has a fixed cost of some 150 numpy calls).
 _LAW_GROUP_POINTS = 16
 #: Below this b the chord functions take their b -> 0 limits (error ~ b^2/15 < 1e-5).
 _B_MIN = 0.01
@@ -491,11 +492,11 @@ class BladeClamped(ElementKind):
         ``key`` is a key of :func:`hyperelastic_solution` or ``"stress"``. Evaluated in
         blocks of about _BLOCK_POINTS points (whole rows, vectorised within a block): the
         chord model needs a few dozen full-size temporaries, which cost more than their
-        arithmetic once they fall out of the cache. With many points per row the rows go material
-        law by material law, so that within a block the law's exponents are scalars
+        arithmetic once they fall out of the cache. With many points (per row and in all) the rows
+        go material law by material law, so that within a block the law's exponents are scalars
         (:func:`ogden_uniaxial_nominal`).
         """
-        if u.shape[1] < _LAW_GROUP_POINTS:          # a few points per row: one pass, mixed laws
+        if u.shape[1] < _LAW_GROUP_POINTS or u.size < _BLOCK_POINTS:   # few points: one pass, mixed laws
             return BladeClamped._hyper_rows(p, mat, rows, u, key)
         law = np.hstack([mat.ogden_mu[rows], mat.ogden_alpha[rows]])
         order = np.lexsort(law.T[::-1])
