@@ -229,7 +229,9 @@ class ElementKind:
     def force(self, p: Params, mat: MaterialArrays, u: np.ndarray) -> np.ndarray:
         """Force of one copy, N, shape (n, m), for strokes ``u`` >= 0 of shape (n, m).
 
-        Must return a new, writable array (the assembly scales it in place).
+        Must return a new, writable float array (the assembly scales it in place), point by
+        point: the force at a stroke depends on that stroke alone, not on the others of the
+        row (the assembly reads a row's force at rest from one of its points at rest).
         """
         raise NotImplementedError
 
