@@ -168,7 +168,9 @@ def palette_png(rgba: np.ndarray) -> bytes:
     """
     from PIL import Image
 
-    rgb = Image.fromarray(np.ascontiguousarray(rgba[..., :3]), "RGB")
+    rgba = np.ascontiguousarray(rgba)      # (a view of a canvas may be a cropped, strided one)
+    h, w = rgba.shape[:2]
+    rgb = Image.frombuffer("RGBA", (w, h), rgba, "raw", "RGBA", 0, 1).convert("RGB")   # no strided copy of 3 of 4 bytes
     pal = rgb.quantize(256, method=Image.Quantize.FASTOCTREE, dither=Image.Dither.NONE)
     lut = pal.getpalette()
     i = pal.getpixel((0, 0))
