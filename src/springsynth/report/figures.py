@@ -24,7 +24,7 @@ from springsynth.assembly.evaluate import Response
 from springsynth.model.target import Target
 
 __all__ = ["Job", "run_jobs", "default_workers", "design_jobs", "pareto_png", "pareto_fatigue_png", "curves_png",
-           "convergence_png", "design_pngs"]
+           "convergence_png", "design_pngs", "design_results"]
 
 #: a job: result key, a module-level function, its positional and keyword arguments
 Job = tuple[str, Callable[..., Any], tuple, dict]
@@ -103,6 +103,10 @@ def pareto_fatigue_png(ids: Sequence[str], F: np.ndarray, fatigue: np.ndarray, f
     return png_bytes(plot_pareto_fatigue(ids, F, fatigue, feasible, limit=limit))
 
 
+def _by_layout(item: tuple) -> tuple:
+    return len(item[0].branches), item[0].layout
+
+
 def design_pngs(items: Sequence[tuple], target: Target, stress_limit: float) -> dict[str, bytes]:
     """The figure of each design, ``items`` = (design, response, title, element stress or None),
     as PNG bytes keyed by design name, drawn on one canvas per number of branches."""
@@ -111,7 +115,7 @@ def design_pngs(items: Sequence[tuple], target: Target, stress_limit: float) -> 
     canvases: dict = {}
     out = {}
     # designs of one layout one after the other: each canvas's frame changes as little as it can
-    for design, resp, title, elem_sr in sorted(items, key=lambda it: (len(it[0].branches), it[0].layout)):
+    for design, resp, title, elem_sr in sorted(items, key=_by_layout):
         n = len(design.branches)
         if n not in canvases:
             canvases[n] = DesignCanvas(n)
@@ -121,7 +125,19 @@ def design_pngs(items: Sequence[tuple], target: Target, stress_limit: float) -> 
 
 
 def design_jobs(items: Sequence[tuple[Design, Response, str, np.ndarray | None]], target: Target,
-                stress_limit: float) -> list[Job]:
-    """The per-design figures as one job: their canvases and frames are drawn once (in two
-    processes they would be drawn twice), and the job weighs about as much as all the others."""
-    return [("designs", design_pngs, (list(items), target, stress_limit), {})] if items else []
+                stress_limit: float, *, parts: int = 1) -> list[Job]:
+    """The per-design figures as ``parts`` jobs (keys ``designs``, ``designs-2``, ...): one job draws
+    each canvas and frame once, so one process is best served by one job; a pool of ``parts``
+    processes by as many equal shares (designs of one layout kept together where the cut allows,
+    each share drawing its own frames)."""
+    items = sorted(items, key=_by_layout)
+    parts = max(1, min(int(parts), len(items)))
+    cuts = [round(k * len(items) / parts) for k in range(parts + 1)]
+    return [("designs" if k == 0 else f"designs-{k + 1}", design_pngs, (items[cuts[k]:cuts[k + 1]], target, stress_limit),
+             {}) for k in range(parts) if cuts[k + 1] > cuts[k]]
+
+
+def design_results(done: Mapping[str, Any]) -> dict[str, bytes]:
+    """The figures of every design job of :func:`design_jobs` in one mapping, keyed by design name."""
+    return {name: png for key, part in done.items() if key == "designs" or key.startswith("designs-")
+            for name, png in part.items()}

@@ -120,7 +120,7 @@ def _figures(run: ReportInput, workers: int):
         title = (f"{d.name} ({state}): curve error {pct_text(F[i, 0])}, stress ratio {F[i, 1]:.3g}, "
                  f"size {size_text(F[i, 2])} mm³")
         items.append((d, r, title, None))
-    jobs = FG.design_jobs(items, st.target, limit)      # the largest job first
+    jobs = FG.design_jobs(items, st.target, limit, parts=workers)      # the largest jobs first
     if ids:
         reps = representatives(ids, F, feas, _in_spec(run.table))
         for role in (r for r in _ROLE_ORDER if r in reps):
@@ -144,7 +144,7 @@ def _figures(run: ReportInput, workers: int):
         jobs.append(("curves.png", FG.curves_png, (st.target, x, curves, errors), {}))
     done = FG.run_jobs(jobs, workers=workers)
     figs = {k: done[k] for k in ("pareto.png", "pareto_fatigue.png", "curves.png", "convergence.png") if k in done}
-    return figs, done.get("designs", {}), responses, roles, done["maker"], done["fatigue"]
+    return figs, FG.design_results(done), responses, roles, done["maker"], done["fatigue"]
 
 
 # ------------------------------------------------------------------------- HTML pieces
