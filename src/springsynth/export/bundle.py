@@ -160,7 +160,7 @@ def run_specs(designs, table, study, *, top: int | None = None) -> list[DesignSp
     ----------
     designs : sequence of Design
         The run's Pareto designs, in the order of ``table``.
-    table : pandas.DataFrame
+    table : Table or pandas.DataFrame
         The run's ``pareto.csv`` (``curve_error_pct``, ``feasible``, ``violations``).
     study : Study
         The run's study: its target's last point is the working position, its
@@ -189,8 +189,8 @@ def run_specs(designs, table, study, *, top: int | None = None) -> list[DesignSp
 
 def _numeric(table, column: str) -> np.ndarray:
     """A table column as floats (NaN where missing or not a number)."""
-    import pandas as pd
+    from springsynth.model.table import to_floats
 
     if column not in table:
         return np.full(len(table), np.nan)
-    return pd.to_numeric(table[column], errors="coerce").to_numpy(float)
+    return to_floats(table[column])

@@ -48,7 +48,7 @@ def verify_run(path: Path, *, points: int = 9, top: int | None = None) -> tuple[
     x = np.linspace(0.0, run.study().target.stroke_mm, points)
     designs = run.designs
     if top is not None:
-        order = np.argsort(run.table["curve_error_pct"].to_numpy(), kind="stable")[:top]
+        order = np.argsort(np.asarray(run.table["curve_error_pct"], float), kind="stable")[:top]
         designs = [designs[i] for i in order]
     reports = [verify_design(d, x) for d in designs]
     frame = pd.concat([r.to_frame() for r in reports], ignore_index=True) if reports else pd.DataFrame()

@@ -19,7 +19,6 @@ from pathlib import Path
 from typing import TYPE_CHECKING
 
 import numpy as np
-import pandas as pd
 
 from springsynth.assembly.design import Design
 from springsynth.assembly.evaluate import evaluate_population
@@ -30,10 +29,13 @@ from springsynth.io.study_toml import load_study
 from springsynth.model.errors import InputError
 from springsynth.model.safety import CAUTION
 from springsynth.model.study import Study, curve_grid
+from springsynth.model.table import Table, TableError, parse_csv
 from springsynth.model.version import __version__
 
 if TYPE_CHECKING:  # the run folder only reads a result's fields: the search is not loaded to write one, and
-    # the report (matplotlib) only to build one
+    # the report (matplotlib) only to build one; pandas only to write one
+    import pandas as pd
+
     from springsynth.report.html import ReportInput
     from springsynth.search.synthesis import Synthesis
 
@@ -47,6 +49,7 @@ CHECKPOINT = "checkpoint.pkl"
 
 def _versions() -> dict[str, str]:
     import matplotlib
+    import pandas as pd
     import pymoo
     import scipy
 
@@ -63,6 +66,8 @@ def _csv(df: pd.DataFrame) -> str:
 
 def curves_frame(study: Study, designs: tuple[Design, ...]) -> pd.DataFrame:
     """Long table design_id, displacement_mm, force_N over :func:`curve_grid`."""
+    import pandas as pd
+
     x = curve_grid(study)
     if not designs:
         return pd.DataFrame(columns=["design_id", "displacement_mm", "force_N"])
@@ -125,7 +130,7 @@ def _plain(o):
 class RunFolder:
     path: Path
     meta: dict
-    table: pd.DataFrame
+    table: Table          # pareto.csv, typed as pandas types it (pandas itself is not loaded to read a run)
     designs: tuple[Design, ...]
 
     @property
@@ -163,8 +168,8 @@ def read_run(path: Path, *, with_study: bool = True) -> RunFolder:
     except (json.JSONDecodeError, UnicodeDecodeError) as e:
         raise InputError(f"run.json is not valid JSON ({e})", where=str(path)) from None
     try:
-        table = pd.read_csv(path / "pareto.csv")
-    except (pd.errors.ParserError, pd.errors.EmptyDataError) as e:
+        table = parse_csv((path / "pareto.csv").read_text(encoding="utf-8"))
+    except (TableError, UnicodeDecodeError) as e:
         raise InputError(f"pareto.csv cannot be read ({e})", where=str(path)) from None
     designs = tuple(load_design(path / "designs" / f"{i}.toml") for i in table.get("design_id", []))
     return RunFolder(path, meta, table, designs)

@@ -27,7 +27,6 @@ from pathlib import Path
 from typing import Mapping, Sequence
 
 import numpy as np
-import pandas as pd
 
 from springsynth.assembly.design import Design
 from springsynth.assembly.evaluate import Response, evaluate_design
@@ -35,6 +34,7 @@ from springsynth.elements import get_kind, margin_text, split_margins
 from springsynth.model.numbers import cycles_text, pct_text, size_text, thousands
 from springsynth.model.safety import CAUTION
 from springsynth.model.study import Study
+from springsynth.model.table import Table, to_floats
 from springsynth.report.fatigue import FatigueView, fatigue_card, fatigue_views
 from springsynth.report.maker import MakerView, maker_section, maker_views
 
@@ -58,36 +58,36 @@ class ReportInput:
 
     folder: Path
     meta: dict
-    table: pd.DataFrame
+    table: Table              # or a pandas.DataFrame of the same file
     designs: tuple[Design, ...]
     study: Study
     study_raw: dict
 
 
 
-def _feasible(table: pd.DataFrame) -> np.ndarray:
+def _feasible(table: Table) -> np.ndarray:
     if "feasible" not in table:
         return np.zeros(len(table), bool)
     return np.array([str(v).strip().lower() in ("true", "1", "yes") for v in table["feasible"]], bool)
 
 
-def _objectives(table: pd.DataFrame) -> np.ndarray:
+def _objectives(table: Table) -> np.ndarray:
     cols = ["curve_error_pct", "stress_ratio", "size_mm3"]
     F = np.full((len(table), 3), np.nan)
     for j, c in enumerate(cols):
         if c in table:
-            F[:, j] = pd.to_numeric(table[c], errors="coerce").to_numpy(float)
+            F[:, j] = to_floats(table[c])
     return F
 
 
-def _in_spec(table: pd.DataFrame) -> np.ndarray | None:
+def _in_spec(table: Table) -> np.ndarray | None:
     """The ``in_spec_share`` column (a run written before it existed has none: None)."""
     if "in_spec_share" not in table:
         return None
-    return pd.to_numeric(table["in_spec_share"], errors="coerce").to_numpy(float)
+    return to_floats(table["in_spec_share"])
 
 
-def extra_columns(table: pd.DataFrame) -> list[str]:
+def extra_columns(table: Table) -> list[str]:
     """Columns beyond the standard ones (verification, tolerance, ...), in file order."""
     return [c for c in table.columns if c not in BASE_COLUMNS and not _PARAM_COLUMN.match(str(c))]
 
@@ -127,7 +127,7 @@ def _figures(run: ReportInput, workers: int):
             roles.setdefault(ids[reps[role]], []).append(role)
         jobs.append(("pareto.png", FG.pareto_png, (ids, F, feas, limit, _in_spec(run.table)), {}))
         if st.duty is not None and "fatigue_ratio" in run.table:
-            fat = pd.to_numeric(run.table["fatigue_ratio"], errors="coerce").to_numpy(float)
+            fat = to_floats(run.table["fatigue_ratio"])
             jobs.append(("pareto_fatigue.png", FG.pareto_fatigue_png, (ids, F, fat, feas, st.limits.fatigue_ratio), {}))
     jobs.append(("maker", maker_views, (run.designs, run.table, st), {}))
     jobs.append(("fatigue", fatigue_views, (run.designs, st), {}))
@@ -267,8 +267,9 @@ def _cell(v, *, numeric: bool, text: str | None = None) -> str:
     return f"<td>{text if text is not None else _e(v)}</td>"
 
 
-def _is_numeric(series: pd.Series) -> bool:
-    return pd.api.types.is_numeric_dtype(series) and not pd.api.types.is_bool_dtype(series)
+def _is_numeric(column) -> bool:
+    """A column of numbers (integers or floats; not booleans, not text)."""
+    return np.asarray(column).dtype.kind in "iuf"
 
 
 def _summary(run: ReportInput) -> str:
