@@ -158,7 +158,7 @@ def plot_schematic(design: Design, *, ax=None):
     own = ax is None
     n = len(design.branches)
     if own:
-        fig, ax = plt.subplots(figsize=(4.0, 1.0 + 0.9 * n))
+        fig, ax = plt.subplots(figsize=(4.0, 1.0 + 1.1 * n))   # rows tall enough for labels and marks
     aspect = schematic_frame(ax, n, chains=design.has_chain)
     schematic_elements(ax, design, aspect)
     if own:
@@ -202,6 +202,9 @@ def schematic_elements(ax, design: Design, aspect: float) -> None:
 
 #: row height, ground and shuttle faces (data units)
 _ROW, _GX, _SX = 1.0, 0.0, 1.0
+#: heights above a row's centre line (data units): its elements' labels (``e1``, ...), then its preload
+#: marks, between those labels and the row above (a chain's labels stand over the middle of the row)
+_LABEL_DY, _PRELOAD_DY = 0.33, 0.46
 
 
 def _frame(ax, top: float) -> None:
@@ -223,10 +226,11 @@ def _offset_marks(ax, off: float, y: float) -> float:
         ax.annotate("", (x1, y), (_SX, y), arrowprops=dict(arrowstyle="<->", color=INK, lw=0.8, shrinkA=0, shrinkB=0))
         ax.text((x1 + _SX) / 2, y + 0.07, f"gap\n{off:.2g} mm", ha="center", va="bottom", fontsize=6.2,
                 color=INK, linespacing=1.0)
-    elif off < -TINY_OFFSET_MM:   # a pair of arrows squeezing the branch
+    elif off < -TINY_OFFSET_MM:   # a pair of arrows squeezing the branch, above its elements' labels
+        yp = y + _PRELOAD_DY
         for xa, xb in ((0.3, 0.18), (0.7, 0.82)):
-            ax.annotate("", (xa, y + 0.3), (xb, y + 0.3), arrowprops=dict(arrowstyle="-|>", color=INK, lw=0.8))
-        ax.text(0.5, y + 0.3, f"preload {-off:.2g} mm", ha="center", va="center", fontsize=6.2, color=INK)
+            ax.annotate("", (xa, yp), (xb, yp), arrowprops=dict(arrowstyle="-|>", color=INK, lw=0.8))
+        ax.text(0.5, yp, f"preload {-off:.2g} mm", ha="center", va="center", fontsize=6.2, color=INK)
     return x1
 
 
@@ -242,7 +246,8 @@ def _branch_row(ax, links, j0: int, x0: float, x1: float, y: float, aspect: floa
         if k < L - 1:   # the floating plate that joins two links
             ax.add_patch(Rectangle((a + width, y - 0.2), plate, 0.4, fc="#d4d4d4", ec="#555555", lw=0.7, zorder=4))
         count = f" ×{e.count}" if chain and e.count > 1 else ""
-        ax.text(a, y + 0.33, f"e{j0 + k + 1}{count}", ha="left", va="center", fontsize=7.5, color=color,
+        ax.text(a, y + _LABEL_DY, f"e{j0 + k + 1}{count}", ha="left", va="center", fontsize=7.5, color=color,
                 fontweight="bold")
         words = f"{e.kind} · {e.material}" if L == 1 else e.kind
-        ax.text(a + width / 2, y - 0.3, words, ha="center", va="top", fontsize=6.2 if L == 1 else 5.6, color=INK)
+        low = 0.1 if L > 2 and k % 2 else 0.0    # three or more links: every other kind a line lower, clear of its neighbours
+        ax.text(a + width / 2, y - 0.3 - low, words, ha="center", va="top", fontsize=6.2 if L == 1 else 5.6, color=INK)
