@@ -22,7 +22,6 @@ from typing import Sequence
 
 import numpy as np
 from matplotlib import rc_context
-from matplotlib.backends.backend_agg import FigureCanvasAgg
 from matplotlib.figure import Figure
 from matplotlib.lines import Line2D
 from matplotlib.patches import Rectangle
@@ -30,6 +29,7 @@ from matplotlib.patches import Rectangle
 from springsynth.assembly.design import Design
 from springsynth.assembly.evaluate import Response
 from springsynth.model.target import Target
+from springsynth.report.canvas import TextCachingCanvas
 from springsynth.report.schematic import TINY_OFFSET_MM, schematic_elements, schematic_frame
 from springsynth.report.style import BAND, BAND_EDGE, DASHES, INK, LIMIT, MUTED, PALETTE, STYLE, palette_png
 
@@ -305,7 +305,7 @@ def _layout(n_branches: int, schematic: bool):
             ax, ax2 = fig.subplots(2, 1, sharex=True, height_ratios=[2.2, 1],
                                    gridspec_kw=dict(hspace=0.08, left=0.11, right=0.98, top=0.93, bottom=0.085))
             sax = lax = None
-        FigureCanvasAgg(fig)
+        TextCachingCanvas(fig)      # drawn again for every design: each text rendered once
         ax.tick_params(labelbottom=False)
         for a in (ax, ax2):
             a.yaxis.get_major_formatter().set_useOffset(False)   # no offset text for a title to collide with
