@@ -41,7 +41,7 @@ def test_columns_are_typed_and_valued_as_pandas_reads_them(tmp_path):
         assert list(row) == list(want.index)
         assert str(row["note"]) == str(want["note"]) and str(row["feasible"]) == str(want["feasible"])
     assert [i for i, _ in tab.iterrows()] == [0, 1, 2, 3]
-    assert "err" in tab and "nope" not in tab
+    assert "err" in tab and "nope" not in tab and list(tab) == list(ref)
 
 
 def test_numbers_are_coerced_as_pandas_to_numeric_does():

@@ -61,7 +61,7 @@ class Table:
     """Named columns of equal length, in file order (the part of ``pandas.DataFrame`` a run's readers use).
 
     ``table[name]`` is the column as a numpy array (see the module's notes for its dtype),
-    ``name in table`` asks for a column, ``len(table)`` counts rows, ``table.iloc[i]`` and
+    ``name in table`` asks for a column (iterating gives the names), ``len(table)`` counts rows, ``table.iloc[i]`` and
     :meth:`iterrows` give rows as dicts ``{column: value}`` (numpy scalars, strings or NaN).
     """
 
@@ -81,6 +81,9 @@ class Table:
 
     def __contains__(self, name) -> bool:
         return name in self._cols
+
+    def __iter__(self) -> Iterator[str]:        # the column names, as a DataFrame iterates
+        return iter(self._cols)
 
     def __getitem__(self, name: str) -> np.ndarray:
         return self._cols[name]
