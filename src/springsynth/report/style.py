@@ -8,6 +8,7 @@ from __future__ import annotations
 
 import functools
 import io
+import sys
 
 import matplotlib
 import numpy as np
@@ -147,7 +148,9 @@ def _spills(fig, renderer) -> bool:
 def _crop(rgba: np.ndarray, *, pad_px: int) -> np.ndarray:
     """The drawing without the margin of the background colour (the top left pixel) around
     it, less ``pad_px`` pixels kept on every side; shape (h, w, 4)."""
-    ink = np.any(rgba[..., :3] != rgba[0, 0, :3], axis=2)
+    px = np.ascontiguousarray(rgba).view(np.uint32)[..., 0]        # a pixel's four bytes as one number
+    rgb = np.uint32(0x00FFFFFF if sys.byteorder == "little" else 0xFFFFFF00)   # its colour bytes, not alpha
+    ink = ((px ^ px[0, 0]) & rgb) != 0
     rows, cols = np.flatnonzero(ink.any(axis=1)), np.flatnonzero(ink.any(axis=0))
     if not rows.size:
         return rgba
