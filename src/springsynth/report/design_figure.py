@@ -33,7 +33,7 @@ from springsynth.report.canvas import TextCachingCanvas
 from springsynth.report.schematic import TINY_OFFSET_MM, schematic_elements, schematic_frame
 from springsynth.report.style import BAND, BAND_EDGE, DASHES, INK, LIMIT, MUTED, PALETTE, STYLE, palette_png
 
-__all__ = ["DesignCanvas", "plot_design", "plot_target", "force_limits", "DESIGN_DPI"]
+__all__ = ["DesignCanvas", "plot_design", "plot_target", "force_limits", "design_force_limits", "DESIGN_DPI"]
 
 #: resolution of the per-design figures, dots per inch (1150 x 660 pixels)
 DESIGN_DPI = 100
@@ -109,6 +109,14 @@ def force_limits(target: Target | None, curves: Sequence[np.ndarray]) -> tuple[f
     return lo - pad, hi + pad, clipped
 
 
+def design_force_limits(design: Design, resp: Response, target: Target | None) -> tuple[float, float]:
+    """The force axis's limits of a design's figure, N (:func:`force_limits` of its total and its
+    stacked branch forces): designs with the same limits share a frame of a :class:`DesignCanvas`."""
+    pos, neg = _stacks(design, resp)
+    lo, hi, _ = force_limits(target, [resp.force_N[0], pos, neg])
+    return lo, hi
+
+
 class DesignCanvas:
     """One figure, laid out for designs of ``n_branches`` branches, drawn again for each design.
 
@@ -145,8 +153,7 @@ class DesignCanvas:
         with rc_context(STYLE):
             for a in self._design_artists:
                 a.remove()
-            pos, neg = _stacks(design, resp)
-            lo, hi, _ = force_limits(target, [resp.force_N[0], pos, neg])
+            lo, hi = design_force_limits(design, resp, target)
             src = resp.stress_ratio_curve[0]
             top = float(np.nanmax(src)) if np.any(np.isfinite(src)) else 1.0
             top = max(top, stress_limit) if stress_limit is not None else top

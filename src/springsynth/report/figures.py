@@ -128,10 +128,14 @@ def design_jobs(items: Sequence[tuple[Design, Response, str, np.ndarray | None]]
                 stress_limit: float, *, parts: int = 1) -> list[Job]:
     """The per-design figures as ``parts`` jobs (keys ``designs``, ``designs-2``, ...): one job draws
     each canvas and frame once, so one process is best served by one job; a pool of ``parts``
-    processes by as many equal shares (designs of one layout kept together where the cut allows,
-    each share drawing its own frames)."""
-    items = sorted(items, key=_by_layout)
-    parts = max(1, min(int(parts), len(items)))
+    processes by as many equal shares (designs of one frame, their layout and force limits, kept
+    together where the cut allows; each share draws its own frames)."""
+    items, parts = list(items), max(1, min(int(parts), len(items)))
+    if parts > 1:       # designs of one frame (layout and force limits) together, so a frame is seldom drawn twice
+        from springsynth.report.design_figure import design_force_limits
+
+        limits = {id(it): design_force_limits(it[0], it[1], target) for it in items}
+        items = sorted(items, key=lambda it: (_by_layout(it), limits[id(it)]))
     cuts = [round(k * len(items) / parts) for k in range(parts + 1)]
     return [("designs" if k == 0 else f"designs-{k + 1}", design_pngs, (items[cuts[k]:cuts[k + 1]], target, stress_limit),
              {}) for k in range(parts) if cuts[k + 1] > cuts[k]]
