@@ -2,6 +2,7 @@
 
 from __future__ import annotations
 
+import dataclasses
 import html
 import os
 import re
@@ -362,3 +363,23 @@ def test_jobs_are_run_here_when_a_worker_process_dies():
 
     jobs = [(f"j{k}", _dies_in_a_worker, (k,), {}) for k in range(3)]
     assert run_jobs(jobs, workers=2) == {"j0": 0, "j1": 2, "j2": 4}
+
+
+def test_design_figures_are_cut_into_equal_jobs_that_draw_every_design_once(run_dir):
+    # two worker processes share the design figures: equal shares, every design in exactly one
+    from springsynth.assembly.evaluate import evaluate_design
+    from springsynth.model.study import curve_grid
+    from springsynth.report.figures import design_jobs, design_results
+
+    inp = _report_input(run_dir)
+    x, target = curve_grid(inp.study), inp.study.target
+    designs = [dataclasses.replace(d, name=f"{d.name}-{k}") for k in range(7) for d in inp.designs]
+    items = [(d, evaluate_design(d, x, x_max_mm=target.stroke_mm), d.name, None) for d in designs]
+    for parts in (1, 2, 3):
+        jobs = design_jobs(items, target, 0.8, parts=parts)
+        assert [k for k, *_ in jobs] == ["designs", "designs-2", "designs-3"][:parts]
+        shares = [[it[0].name for it in args[0]] for _, _, args, _ in jobs]
+        assert sorted(sum(shares, [])) == sorted(d.name for d in designs)
+        assert max(map(len, shares)) - min(map(len, shares)) <= 1
+    done = {"designs": {"D01": b"a"}, "designs-2": {"D02": b"b"}, "pareto.png": b"c", "maker": {}}
+    assert design_results(done) == {"D01": b"a", "D02": b"b"}
