@@ -8,7 +8,7 @@ import numpy as np
 import pandas as pd
 import pytest
 
-from springsynth.model.table import TableError, parse_csv, to_floats
+from springsynth.model.table import TableError, csv_text, parse_csv, to_floats
 
 _CSV = "\n".join([
     "design_id,err,count,feasible,note,mixed,empty,flag_na,big,neg",
@@ -61,3 +61,31 @@ def test_a_short_row_is_padded_with_missing_cells():
     tab = parse_csv("a,b,c\n1,2\n3,4,x\n")
     assert list(tab["a"]) == [1, 3] and tab["a"].dtype == np.int64
     assert math.isnan(tab["c"][0]) and tab["c"][1] == "x"
+
+
+#: columns of every type a run writes (floats with NaN and infinities, whole numbers, bools with and
+#: without a missing value, text that needs quoting, numbers among text, empty tables)
+_WRITE_CASES = [
+    {"design_id": ["D01", "D02"], "err": [1.5, np.nan], "count": [3, np.int64(4)], "ok": [True, np.bool_(False)],
+     "e1_kind": ["arch", np.nan], "note": ['say "hi"', "a, b"], "mixed": ["q", 0.123456789],
+     "big": [1e301, -np.inf], "tiny": [np.float64(1.234567891e-12), -0.0], "flag": [True, np.nan],
+     "whole_and_missing": [2, np.nan], "nothing": [np.nan, np.nan]},
+    {"only": [np.nan, np.nan]},
+    {"design_id": [], "displacement_mm": [], "force_N": []},
+    {},
+]
+
+
+@pytest.mark.parametrize("columns", _WRITE_CASES)
+@pytest.mark.parametrize("float_format", ["%.6g", "%.8g"])
+def test_csv_text_writes_the_bytes_pandas_writes(columns, float_format):
+    # reference: pandas' writer, with the options a run folder's tables were written with before
+    ref = pd.DataFrame(columns).to_csv(index=False, float_format=float_format, lineterminator="\n")
+    assert csv_text(columns, float_format=float_format) == ref
+
+
+def test_a_table_written_then_read_keeps_its_values():
+    cols = _WRITE_CASES[0]
+    back = parse_csv(csv_text(cols, float_format="%.17g"))
+    assert list(back["count"]) == [3, 4] and back["ok"].dtype == bool and math.isnan(back["err"][1])
+    assert back["big"][0] == 1e301 and back["note"][1] == "a, b" and back["tiny"][0] == 1.234567891e-12

@@ -332,23 +332,43 @@ try:
     runpy.run_module("springsynth.cli", run_name="__main__")
 except SystemExit as e:
     assert not e.code, e.code
-print(" ".join(sorted(m for m in sys.modules if m.split(".")[0] in ("pymoo", "matplotlib") or m.startswith("springsynth.search"))))
+print(" ".join(sorted(m for m in sys.modules if m.split(".")[0] in ("pymoo", "matplotlib", "pandas")
+                      or m.startswith("springsynth.search"))))
 """
 
 
 @pytest.mark.slow
 @pytest.mark.parametrize("command", [["report"], ["verify", "--top", "1", "--points", "3"]])
 def test_report_and_verify_of_a_run_do_not_load_the_search(run_copy, command):
-    # rebuilding a report or verifying a run never loads the search (pymoo), and verifying never
-    # loads the plotting library: a user waits for neither
+    # rebuilding a report or verifying a run never loads the search (pymoo), rebuilding a report never
+    # loads pandas, and verifying never loads the plotting library: a user waits for none of them
     env = {**os.environ, "PYTHONPATH": str(Path(__file__).resolve().parents[2] / "src")}
     out = subprocess.run([sys.executable, "-c", _MODULES_AFTER, command[0], str(run_copy), *command[1:]],
                          capture_output=True, text=True, env=env, timeout=600)
     assert out.returncode == 0, out.stderr
     loaded = out.stdout.strip().splitlines()[-1].split()
     assert not [m for m in loaded if m.startswith(("pymoo", "springsynth.search"))], loaded
+    if command[0] == "report":
+        assert not [m for m in loaded if m.startswith("pandas")], loaded
     if command[0] == "verify":
         assert not [m for m in loaded if m.startswith("matplotlib")], loaded
+
+
+@pytest.mark.slow
+def test_a_run_writes_its_tables_without_pandas(tmp_path):
+    # pareto.csv and curves.csv are written by model.table's writer (byte for byte what pandas wrote,
+    # tests/unit/test_csv_table.py), and the terminal's table reads them back: a run never imports pandas
+    x = np.linspace(0, 6, 13)
+    write_target(tmp_path / "lin.csv", x, 3.0 + 1.2 * x, tol=0.4)
+    study = write_study(tmp_path, "lin.csv")
+    env = {**os.environ, "PYTHONPATH": str(Path(__file__).resolve().parents[2] / "src")}
+    out = subprocess.run([sys.executable, "-c", _MODULES_AFTER, "run", str(study), "--out", str(tmp_path / "run"),
+                          "--population", "12", "--generations", "3"], capture_output=True, text=True, env=env,
+                         timeout=600)
+    assert out.returncode == 0, out.stderr
+    loaded = out.stdout.strip().splitlines()[-1].split()
+    assert "pymoo" in loaded and not [m for m in loaded if m.startswith("pandas")], loaded
+    assert "Pareto set" in out.stdout and len(pd.read_csv(tmp_path / "run" / "pareto.csv")) >= 1
 
 
 def _dies_in_a_worker(k):

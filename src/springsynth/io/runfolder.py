@@ -1,6 +1,6 @@
 """Run folders: writing them and reading them back.
 
-A run folder holds ``pareto.csv`` (the table of :meth:`Synthesis.to_frame`),
+A run folder holds ``pareto.csv`` (the columns of :func:`~springsynth.search.synthesis.design_columns`),
 ``designs/<id>.toml`` (one design file per row), ``curves.csv`` (each design's force over
 :func:`curve_grid`), copies of the inputs (``study.toml``, ``target.csv``), ``run.json``
 (seed, budget, history, timings, versions) and, for a run interrupted with Ctrl-C, a
@@ -10,7 +10,6 @@ alone (:func:`build_report`).
 
 from __future__ import annotations
 
-import io
 import json
 import math
 import platform
@@ -29,13 +28,11 @@ from springsynth.io.study_toml import load_study
 from springsynth.model.errors import InputError
 from springsynth.model.safety import CAUTION
 from springsynth.model.study import Study, curve_grid
-from springsynth.model.table import Table, TableError, parse_csv
+from springsynth.model.table import Table, TableError, csv_text, parse_csv
 from springsynth.model.version import __version__
 
-if TYPE_CHECKING:  # the run folder only reads a result's fields: the search is not loaded to write one, and
-    # the report (matplotlib) only to build one; pandas only to write one
-    import pandas as pd
-
+if TYPE_CHECKING:  # the run folder reads a result's fields: the search is not loaded to read a run, the
+    # report (matplotlib) only to build one, and pandas never (the tables are written and read by model.table)
     from springsynth.report.html import ReportInput
     from springsynth.search.synthesis import Synthesis
 
@@ -46,51 +43,42 @@ __all__ = ["write_run", "read_run", "build_report", "RunFolder", "CHECKPOINT", "
 CHECKPOINT = "checkpoint.pkl"
 
 
-
 def _versions() -> dict[str, str]:
-    import matplotlib
-    import pandas as pd
-    import pymoo
-    import scipy
+    from importlib.metadata import PackageNotFoundError, version
+
+    def installed(name: str) -> str:      # without importing it (pandas alone takes some 0.3 s to import)
+        try:
+            return version(name)
+        except PackageNotFoundError:
+            return "not installed"
 
     return {"springsynth": __version__, "python": platform.python_version(), "numpy": np.__version__,
-            "scipy": scipy.__version__, "pymoo": pymoo.__version__, "pandas": pd.__version__,
-            "matplotlib": matplotlib.__version__}
+            **{name: installed(name) for name in ("scipy", "pymoo", "pandas", "matplotlib")}}
 
 
-def _csv(df: pd.DataFrame) -> str:
-    buf = io.StringIO()
-    df.to_csv(buf, index=False, float_format="%.6g", lineterminator="\n")
-    return buf.getvalue()
-
-
-def curves_frame(study: Study, designs: tuple[Design, ...]) -> pd.DataFrame:
-    """Long table design_id, displacement_mm, force_N over :func:`curve_grid`."""
-    import pandas as pd
-
+def curve_columns(study: Study, designs: tuple[Design, ...]) -> dict[str, list]:
+    """Long table design_id, displacement_mm, force_N over :func:`curve_grid`, as named columns."""
     x = curve_grid(study)
     if not designs:
-        return pd.DataFrame(columns=["design_id", "displacement_mm", "force_N"])
+        return {"design_id": [], "displacement_mm": [], "force_N": []}
     r = evaluate_population(Slots.from_designs(list(designs)), x, x_max_mm=study.target.stroke_mm)
-    return pd.DataFrame({
-        "design_id": np.repeat([d.name for d in designs], x.size),
-        "displacement_mm": np.tile(x, len(designs)),
-        "force_N": r.force_N.ravel(),
-    })
+    return {"design_id": [d.name for d in designs for _ in range(x.size)],
+            "displacement_mm": np.tile(x, len(designs)).tolist(), "force_N": r.force_N.ravel().tolist()}
 
 
 def write_run(res: Synthesis, out: Path, *, parent: str | None = None, overrides: list[str] = (),
               plots: bool = True, resumed_from: str | None = None) -> Path:
     """Write the run folder; returns its path (a new folder or an existing empty one, never one with files in it)."""
+    from springsynth.search.synthesis import design_columns  # the result came from the search: it is loaded
+
     st = res.study
     folder = new_folder(out)
     (folder / "designs").mkdir()
-    table = res.to_frame()
-    write_text_atomic(folder / "pareto.csv", _csv(table))
+    write_text_atomic(folder / "pareto.csv", csv_text(design_columns(res)))
     header = f"springsynth {__version__} design {{}} from study {st.name!r}\n{CAUTION}"
     for d in res.designs:
         write_text_atomic(folder / "designs" / f"{d.name}.toml", design_to_toml(d, header=header.format(d.name)))
-    write_text_atomic(folder / "curves.csv", _csv(curves_frame(st, res.designs)))
+    write_text_atomic(folder / "curves.csv", csv_text(curve_columns(st, res.designs)))
     if st.path is not None:
         write_bytes_atomic(folder / "study.toml", Path(st.path).read_bytes())
     if st.target_path is not None:

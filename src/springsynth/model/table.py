@@ -8,6 +8,10 @@ integer, ``float64`` when every cell is a number or missing (NaN), ``bool`` when
 strings (NaN where missing). Missing means an empty cell or one of pandas' default NA words
 (``NaN``, ``nan``, ``NA``, ``N/A``, ``null``, ``None``, ...).
 A row with more cells than the header is an error; one with fewer is padded with missing cells.
+
+:func:`csv_text` writes columns as ``pandas.DataFrame(columns).to_csv(index=False,
+float_format=..., lineterminator="\n")`` writes them, byte for byte, so that a run is written without
+loading pandas either.
 """
 
 from __future__ import annotations
@@ -20,7 +24,7 @@ from typing import Iterator
 
 import numpy as np
 
-__all__ = ["Table", "TableError", "parse_csv", "to_floats"]
+__all__ = ["Table", "TableError", "csv_text", "parse_csv", "to_floats"]
 
 #: cells read as missing (pandas' default ``na_values``)
 NA_WORDS = frozenset({"", "#N/A", "#N/A N/A", "#NA", "-1.#IND", "-1.#QNAN", "-NaN", "-nan", "1.#IND", "1.#QNAN",
@@ -148,3 +152,45 @@ def to_floats(column) -> np.ndarray:
         except (TypeError, ValueError):
             pass
     return out
+
+
+def _is_missing(v) -> bool:
+    return v is None or (isinstance(v, (float, np.floating)) and math.isnan(v))
+
+
+def _cells(values: list, float_format: str) -> list[str]:
+    """One column's values as pandas writes them: typed as ``pandas.DataFrame`` types a column of
+    Python or numpy values (bool, int64, float64 with NaN for missing, else object), each type
+    written its own way (``float_format`` for float64 columns only, ``str`` in object columns,
+    missing as an empty cell)."""
+    def is_bool(v):
+        return isinstance(v, (bool, np.bool_))
+
+    def is_int(v):
+        return isinstance(v, (int, np.integer)) and not is_bool(v)
+
+    if values and all(is_bool(v) for v in values):
+        return [str(bool(v)) for v in values]
+    if values and all(is_int(v) for v in values):
+        return [str(int(v)) for v in values]
+    if all(is_int(v) or (isinstance(v, (float, np.floating)) and not is_bool(v)) or v is None for v in values):
+        return ["" if _is_missing(v) else float_format % float(v) for v in values]
+    return ["" if _is_missing(v) else str(v) for v in values]
+
+
+def csv_text(columns: dict[str, list], *, float_format: str = "%.6g") -> str:
+    """CSV text of named columns of equal length, as pandas writes the frame of the same columns
+    (``pandas.DataFrame(columns).to_csv(index=False, float_format=float_format, lineterminator="\n")``):
+    the same typing of each column, the same cells, minimal quoting by the csv module, and a bare newline
+    for a table without columns."""
+    if not columns:
+        return "\n"
+    n = {len(v) for v in columns.values()}
+    if len(n) > 1:
+        raise ValueError(f"columns of unequal length {sorted(n)}")
+    cells = [_cells(list(v), float_format) for v in columns.values()]
+    buf = io.StringIO()
+    w = csv.writer(buf, lineterminator="\n")
+    w.writerow(list(columns))
+    w.writerows(zip(*cells))
+    return buf.getvalue()

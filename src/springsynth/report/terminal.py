@@ -94,11 +94,12 @@ def pareto_table(frame, title: str, rows: int = 12) -> Table:
               + ("in spec\n%",) * spec + ("mass\ng", "topology")):
         t.add_column(c, justify="left" if c in ("id", "topology") else "right", overflow="fold",
                      no_wrap=c != "topology")
-    for _, r in frame.head(rows).iterrows():
-        t.add_row(escape(str(r.design_id)), pct_text(r.curve_error_pct, suffix=""), f"{r.stress_ratio:.3g}",
-                  size_text(r.size_mm3), *([f"{r.fatigue_ratio:.3g}"] if fat else []),
-                  *([pct_text(100 * r.in_spec_share, decimals=1, suffix="")] if spec else []), f"{r.mass_g:.3g}",
-                  escape(r.topology))
+    for i in range(min(rows, len(frame))):
+        r = frame.iloc[i]          # a row of a DataFrame or of a model.table.Table, read by column name
+        t.add_row(escape(str(r["design_id"])), pct_text(r["curve_error_pct"], suffix=""), f"{r['stress_ratio']:.3g}",
+                  size_text(r["size_mm3"]), *([f"{r['fatigue_ratio']:.3g}"] if fat else []),
+                  *([pct_text(100 * r["in_spec_share"], decimals=1, suffix="")] if spec else []), f"{r['mass_g']:.3g}",
+                  escape(str(r["topology"])))
     return t
 
 

@@ -5,10 +5,9 @@ from __future__ import annotations
 import math
 import time
 from dataclasses import dataclass, field, replace
-from typing import Callable, Sequence
+from typing import TYPE_CHECKING, Callable, Sequence
 
 import numpy as np
-import pandas as pd
 
 from springsynth.assembly.design import Chain, Design
 from springsynth.checks.fatigue import fatigue_population
@@ -21,7 +20,10 @@ from springsynth.search.loop import Progress, run_search
 from springsynth.search.scoring import CONSTRAINTS, Scores, yield_constraint
 from springsynth.search.settings import SETTINGS
 
-__all__ = ["synthesize", "Synthesis", "design_table", "fitting_designs", "front_yield"]
+if TYPE_CHECKING:  # pandas only for the table as a DataFrame (a run is written without it)
+    import pandas as pd
+
+__all__ = ["design_columns", "synthesize", "Synthesis", "design_table", "fitting_designs", "front_yield"]
 
 _CONSTRAINT_WORDS = {
     "curve_error": "curve error exceeds limits.max_error_pct",
@@ -89,7 +91,7 @@ class Synthesis:
     #: stroke of each design's first snap (a chain's loading path folds), mm, NaN when none; shape (n,)
     snap_mm: np.ndarray | None = None
 
-    def to_frame(self) -> pd.DataFrame:
+    def to_frame(self) -> "pd.DataFrame":
         return design_table(self)
 
     def binding(self, i: int) -> str:
@@ -118,8 +120,8 @@ class Synthesis:
         return out or [f"{_CONSTRAINT_WORDS['validity']}"]
 
 
-def design_table(res: Synthesis) -> pd.DataFrame:
-    """The Pareto table, one row per design, in table order.
+def design_columns(res: Synthesis) -> dict[str, list]:
+    """The Pareto table as named columns of one value per design, in table order (missing values NaN).
 
     Columns: ``design_id``, the objectives ``curve_error_pct``, ``stress_ratio``,
     ``size_mm3`` (and ``fatigue_ratio`` under a duty), ``in_spec_share`` (every design's share of
@@ -153,12 +155,19 @@ def design_table(res: Synthesis) -> pd.DataFrame:
             row["violations"] = res.binding(i)
         row.update(_part_columns(d, chains))
         rows.append(row)
-    df = pd.DataFrame(rows)
+    names = list(dict.fromkeys(k for r in rows for k in r))     # in order of first appearance, as pandas orders them
     # group each element's columns together, in slot order, whatever kinds came first
-    head = [c for c in df.columns if not c.startswith("e") or not c[1:2].isdigit()]
-    slots = sorted({int(c[1:].split("_", 1)[0]) for c in df.columns if c not in head})
-    order = head + [c for j in slots for c in df.columns if c.startswith(f"e{j}_")]
-    return df[order]
+    head = [c for c in names if not c.startswith("e") or not c[1:2].isdigit()]
+    slots = sorted({int(c[1:].split("_", 1)[0]) for c in names if c not in head})
+    order = head + [c for j in slots for c in names if c.startswith(f"e{j}_")]
+    return {c: [r.get(c, np.nan) for r in rows] for c in order}
+
+
+def design_table(res: Synthesis) -> "pd.DataFrame":
+    """The Pareto table (:func:`design_columns`) as a ``pandas.DataFrame``."""
+    import pandas as pd
+
+    return pd.DataFrame(design_columns(res))
 
 
 def _part_columns(d: Design, chains: bool) -> dict:
