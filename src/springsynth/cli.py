@@ -288,10 +288,11 @@ def _progress_runner(study, **kw):
 
 
 def _finish_run(res, folder):
-    from springsynth.model.table import parse_csv
+    from springsynth.model.table import csv_text, parse_csv
     from springsynth.report.terminal import pareto_table
+    from springsynth.search.synthesis import design_columns
 
-    df = parse_csv((folder / "pareto.csv").read_text(encoding="utf-8"))   # as written, and read as any reader reads it
+    df = parse_csv(csv_text(design_columns(res)))    # pareto.csv's text, read as any reader reads the file
     out.print(pareto_table(df, f"Pareto set: {len(df)} designs in {folder}"))
     if len(df) > 12:
         out.print(f"... {len(df) - 12} more in {folder / 'pareto.csv'}")
