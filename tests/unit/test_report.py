@@ -404,3 +404,20 @@ def test_design_figures_are_cut_into_equal_jobs_that_draw_every_design_once(run_
         assert max(map(len, shares)) - min(map(len, shares)) <= 1
     done = {"designs": {"D01": b"a"}, "designs-2": {"D02": b"b"}, "pareto.png": b"c", "maker": {}}
     assert design_results(done) == {"D01": b"a", "D02": b"b"}
+
+
+@pytest.mark.parametrize("load_1min, running_now, workers", [
+    (1.1, 1.0, 2),     # the previous command ended seconds ago: only this process runs now
+    (2.0, 2.0, 1),     # another process has run for a while and runs now
+    (0.3, 2.0, 2),     # another process started a moment ago: not yet counted as busy
+    (0.2, 1.0, 2),
+])
+def test_the_report_takes_a_second_worker_where_a_core_is_idle(monkeypatch, load_1min, running_now, workers):
+    import springsynth.report.figures as fig
+
+    monkeypatch.setattr(fig.sys, "platform", "linux")
+    monkeypatch.setattr(fig.os, "sched_getaffinity", lambda pid: {0, 1}, raising=False)
+    monkeypatch.setattr(fig.os, "cpu_count", lambda: 2)
+    monkeypatch.setattr(fig.os, "getloadavg", lambda: (load_1min, 1.0, 1.0))
+    monkeypatch.setattr(fig, "_running_now", lambda: running_now)
+    assert fig.default_workers() == workers

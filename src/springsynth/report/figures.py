@@ -10,6 +10,7 @@ has imported, and they only return bytes; the files are written by the caller.
 
 from __future__ import annotations
 
+import math
 import multiprocessing
 import os
 import sys
@@ -47,9 +48,21 @@ def default_workers() -> int:
         cores = len(os.sched_getaffinity(0))
     except AttributeError:  # pragma: no cover - Linux has it
         cores = os.cpu_count() or 1
-    busy = os.getloadavg()[0]            # runnable processes, this one included, over the last minute
+    busy = min(os.getloadavg()[0], _running_now())   # runnable processes, this one included
     idle = min(cores, os.cpu_count() or cores) - busy
     return max(1, min(MAX_WORKERS, cores, int(idle) + 1))
+
+
+def _running_now() -> float:
+    """Processes runnable at this moment, this one included (``/proc/loadavg``'s fourth field). The
+    one-minute load average alone still counts a process that ended seconds ago (the previous
+    command of a script, say) and would keep the second worker idle for a minute after it; the
+    smaller of the two counts only what runs now and has run for a while."""
+    try:
+        with open("/proc/loadavg", encoding="ascii") as f:
+            return float(f.read().split()[3].split("/")[0])
+    except (OSError, IndexError, ValueError):
+        return math.inf
 
 
 def run_jobs(jobs: Sequence[Job], *, workers: int = 1) -> dict[str, Any]:
