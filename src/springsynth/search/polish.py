@@ -2,17 +2,18 @@
 
 Every starting design is a small bounded least-squares problem of its own (a few to some twenty
 free genes, one residual per curve point and per constraint near its bound). They are solved
-together by :func:`solve_batch`, a projected Levenberg–Marquardt method vectorised over the
-problems: at each step every unfinished problem takes one damped Gauss–Newton step, and the
-trial points of all of them, each with the forward-difference perturbations that give its
-Jacobian, are evaluated in one population call. The model costs far more per call than per
-design, so a polish of some forty designs makes a few dozen calls.
+together by :func:`solve_batch`, a damped Gauss–Newton method vectorised over the problems: at
+each step every unfinished problem takes one damped step, and the trial points of all of them, each
+with the forward-difference perturbations that give its Jacobian, are evaluated in one population
+call. The model costs far more per call than per design, so a polish of some forty designs makes a
+few dozen calls.
 
-Method: Levenberg 1944 and Marquardt 1963 (the damped normal equations
-``(JᵀJ + λ diag(JᵀJ)) δ = −Jᵀr``, Marquardt's scaling), with the damping updated from the
-ratio of actual to predicted reduction as in Nielsen 1999 (Madsen, Nielsen & Tingleff, "Methods
-for non-linear least squares problems", 2004, eq. 3.16); bounds by projection, genes at a bound
-whose gradient points outward held fixed for the step (an active set).
+Method: Levenberg 1944 and Marquardt 1963 (damped normal equations), with the damping updated from
+the ratio of actual to predicted reduction as in Nielsen 1999 (Madsen, Nielsen & Tingleff, "Methods
+for non-linear least squares problems", 2004, eq. 3.16); bounds as in scipy's "trf" method, by the
+scaling of Coleman & Li (Branch, Coleman & Li 1999, SIAM J. Sci. Comput. 21(1)), under which a
+variable slows down as it nears the bound its descent direction points at, and a step that stops
+short of the bounds (:func:`_damped_step`).
 """
 
 from __future__ import annotations
