@@ -32,6 +32,7 @@ from springsynth.search.operators import (
     _Sampling,
     _TopologySurvival,
     tournament,
+    values,
 )
 from springsynth.search.polish import polish_designs
 from springsynth.search.scoring import CONSTRAINTS, Scores, score
@@ -173,8 +174,7 @@ def _generation(state: _State, t0: float, on_generation: Callable[[Progress], No
     algo.next()
     if algo.n_gen in state.inject_at:
         state.polish_evals += _inject_polished(state.problem.study, state.problem.enc, state.problem, algo)
-    F = np.array([ind.F for ind in algo.pop], dtype=float)
-    G = np.array([ind.G for ind in algo.pop], dtype=float)
+    F, G = values(algo.pop, "F"), values(algo.pop, "G")
     ok = np.all(G <= 0, axis=1)
     best = float(F[ok, 0].min()) if ok.any() else math.nan
     hv = hypervolume(state.problem.study, F, G)
@@ -189,7 +189,7 @@ def _generation(state: _State, t0: float, on_generation: Callable[[Progress], No
 def _stopped(state: _State, t0: float, max_designs: int) -> SearchOutcome:
     """The front so far, unpolished and marked partial, with the checkpoint that resumes it."""
     study, enc = state.problem.study, state.problem.enc
-    Xpop = state.algo.pop.get("X")
+    Xpop = values(state.algo.pop, "X")
     X, sc, feasible_found = pareto_front(study, enc, Xpop, score(study, enc.decode(Xpop)), max_designs)
     return SearchOutcome(X=X, scores=sc, feasible_found=feasible_found, history=state.history,
                          evaluations=state.evaluations, timings={"search_s": time.perf_counter() - t0},
@@ -202,7 +202,7 @@ def _finish(state: _State, t0: float, polish: bool, max_designs: int) -> SearchO
     small sample are their first parts): ties and lucky draws of the small sample are settled there."""
     study, enc = state.problem.study, state.problem.enc
     t_search = time.perf_counter() - t0
-    Xpop = state.algo.pop.get("X")
+    Xpop = values(state.algo.pop, "X")
     full = SETTINGS.yield_samples      # the front is chosen on the full sample of the in-spec share
     sc_pop = score(study, enc.decode(Xpop), yield_samples=full)
     X, sc, feasible_found = pareto_front(study, enc, Xpop, sc_pop, max_designs, yield_samples=full)
@@ -243,7 +243,7 @@ def _inject_polished(study, enc, problem, algo) -> int:
     """
     from pymoo.core.population import Population
 
-    X = algo.pop.get("X")
+    X = values(algo.pop, "X")
     sc = score(study, enc.decode(X))
     starts = best_per_topology(enc, X, sc, per_topology=SETTINGS.inject_per_topology)
     X2, info = polish_designs(study, enc, X[starts], take(sc, starts), max_steps=SETTINGS.inject_steps)

@@ -159,6 +159,12 @@ def _pm(X, xl, xu, eta, rng):
     return np.clip(X + dq * d, xl, xu)
 
 
+def values(pop, name: str) -> np.ndarray:
+    """One attribute (``X``, ``F``, ``G``, ``CV``) of every individual of a pymoo population, shape
+    (len(pop), k): read once per individual, without ``Population.get``'s name lookups on each."""
+    return np.array([getattr(ind, name) for ind in pop], dtype=float).reshape(len(pop), -1)
+
+
 class _Evaluator(Evaluator):
     """pymoo's evaluator with the values written into the individuals directly.
 
@@ -169,7 +175,7 @@ class _Evaluator(Evaluator):
     """
 
     def _eval(self, problem, pop, evaluate_values_of, **kwargs):
-        X = np.array([ind.X for ind in pop], dtype=float)
+        X = values(pop, "X")
         out = problem.evaluate(X, return_values_of=evaluate_values_of, return_as_dictionary=True, **kwargs)
         cols = [(k, v, hasattr(Individual, k)) for k, v in out.items() if v is not None]
         G = out.get("G")
@@ -213,7 +219,7 @@ class _HashDuplicates(DuplicateElimination):
         self.enc = enc
 
     def _keys(self, pop):
-        X = np.array([ind.X for ind in pop], dtype=float).reshape(len(pop), -1)
+        X = values(pop, "X")
         enc = getattr(self, "enc", None)
         if enc is not None and enc.link_gene:
             X = canonical_genomes(enc, X)
@@ -265,12 +271,11 @@ class _TopologySurvival(RankAndCrowding):
     def do(self, problem, pop, *args, n_survive=None, random_state=None, return_indices=False, **kwargs):
         n_survive = min(n_survive or len(pop), len(pop))
         n_head = n_survive - int(self.share * n_survive)
-        F = np.array([ind.F for ind in pop], dtype=float)
-        cv = np.array([ind.CV[0] for ind in pop], dtype=float)
+        F, cv = values(pop, "F"), values(pop, "CV")[:, 0]
         rank = np.full(len(pop), -1)
         crowd = np.zeros(len(pop))
         head = self._rank_and_crowding(F, cv, np.arange(len(pop)), n_head, random_state, rank, crowd)
-        keys = topology_keys(self.enc, np.array([ind.X for ind in pop]))
+        keys = topology_keys(self.enc, values(pop, "X"))
         seen = {keys[i] for i in head}
         rest = np.setdiff1d(np.arange(len(pop)), head)
         extra = []
@@ -313,6 +318,11 @@ class _TopologySurvival(RankAndCrowding):
         return np.array(out, dtype=np.intp)
 
 
+def _dominates(Fp: np.ndarray, Fq: np.ndarray) -> np.ndarray:
+    """Row by row: p is no worse in every objective and better in one (minimisation), shape (n,)."""
+    return np.all(Fp <= Fq, axis=1) & np.any(Fp < Fq, axis=1)
+
+
 def tournament(pop, P, algorithm, random_state=None, **kwargs) -> np.ndarray:
     """NSGA-II's binary tournament (pymoo's ``binary_tournament``, "comp_by_dom_and_crowding"), on arrays.
 
@@ -322,12 +332,10 @@ def tournament(pop, P, algorithm, random_state=None, **kwargs) -> np.ndarray:
     the same; only the comparisons are done on arrays read once from the population.
     """
     a, b = P[:, 0], P[:, 1]
-    F = np.array([ind.F for ind in pop], dtype=float)
-    cv = np.array([ind.CV[0] for ind in pop], dtype=float)
+    F, cv = values(pop, "F"), values(pop, "CV")[:, 0]
     cd = np.array([np.nan if (c := ind.data.get("crowding")) is None else c for ind in pop], dtype=float)
     infeasible = (cv[a] > 0.0) | (cv[b] > 0.0)
-    a_dom = np.all(F[a] <= F[b], axis=1) & np.any(F[a] < F[b], axis=1)
-    b_dom = np.all(F[b] <= F[a], axis=1) & np.any(F[b] < F[a], axis=1)
+    a_dom, b_dom = _dominates(F[a], F[b]), _dominates(F[b], F[a])
     S = np.where(infeasible, np.where(cv[a] < cv[b], a, np.where(cv[b] < cv[a], b, -1)),
                  np.where(a_dom, a, np.where(b_dom, b, np.where(cd[a] > cd[b], a, np.where(cd[a] < cd[b], b, -1)))))
     for i in np.flatnonzero(S < 0):
